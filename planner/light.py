@@ -1,0 +1,306 @@
+"""Light at the eye: piecewise-constant schedules of lux in absolute (UTC) time.
+
+A :class:`LightSchedule` is built from a background level and *layers* applied
+in order: ``set`` replaces the level (sleep = 0 lux because the eyes are shut,
+outdoor daylight), ``at_least`` raises it to a floor (a light box in front of
+the eyes), ``scale`` multiplies it (dark glasses with their transmission).
+
+For the integrator the schedules of a batch are sampled onto one time grid by
+:func:`sample_on_grid`.  Grid steps are **not** aligned to light edges: an edge
+that falls inside a step *splits that step into pieces for that schedule only*
+(:class:`GridLight` keeps the pieces), and :mod:`planner.process_l` advances
+Process L exactly through every piece, so no edge is lost or moved.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import datetime, timedelta, timezone
+from typing import Literal, Sequence
+
+import numpy as np
+
+from planner.errors import ScheduleError
+
+SECONDS_PER_HOUR = 3600.0
+#: Edges closer than this to a grid point are treated as on it [h] (about 4 ms);
+#: it only absorbs float round-off of datetime arithmetic.
+EDGE_TOLERANCE_H = 1e-6
+
+
+def _require_aware(moment: datetime, what: str) -> datetime:
+    if not isinstance(moment, datetime):
+        raise ScheduleError(f"{what} must be a datetime, got {type(moment).__name__}", field=what)
+    if moment.tzinfo is None or moment.utcoffset() is None:
+        raise ScheduleError("times must carry a time zone (floating local times are ambiguous)", field=what)
+    return moment.astimezone(timezone.utc)
+
+
+def hours_between(earlier: datetime, later: datetime) -> float:
+    """Real elapsed hours from ``earlier`` to ``later`` (both aware)."""
+    return (later - earlier).total_seconds() / SECONDS_PER_HOUR
+
+
+@dataclass(frozen=True)
+class LightLayer:
+    """One interval of a light schedule.
+
+    Parameters
+    ----------
+    start, end : datetime
+        Aware datetimes; ``end`` after ``start``.
+    kind : {"set", "at_least", "scale"}
+        How the layer changes the level beneath it.
+    value : float
+        Lux for ``set`` and ``at_least`` [lux]; transmission for ``scale`` [0..1].
+    source : str
+        What the light is (``"sleep"``, ``"daylight"``, ``"light box"``, ``"dark glasses"`` ...).
+    """
+
+    start: datetime
+    end: datetime
+    kind: Literal["set", "at_least", "scale"]
+    value: float
+    source: str = ""
+
+    def __post_init__(self):
+        start = _require_aware(self.start, "start")
+        end = _require_aware(self.end, "end")
+        if end <= start:
+            raise ScheduleError(f"{self.source or 'light'} interval ends ({end.isoformat()}) "
+                                f"at or before it starts ({start.isoformat()})", field="end")
+        if self.kind not in ("set", "at_least", "scale"):
+            raise ScheduleError(f"unknown layer kind {self.kind!r}; allowed: set, at_least, scale", field="kind")
+        if not math.isfinite(self.value) or self.value < 0:
+            raise ScheduleError(f"{self.source or 'light'} value must be a finite number >= 0, got {self.value}",
+                                field="value")
+        if self.kind == "scale" and self.value > 1:
+            raise ScheduleError(f"transmission must lie in [0, 1], got {self.value}", field="value")
+        object.__setattr__(self, "start", start)
+        object.__setattr__(self, "end", end)
+
+
+def sleep(start: datetime, end: datetime) -> LightLayer:
+    """Eyes shut: 0 lux at the retina."""
+    return LightLayer(start, end, "set", 0.0, "sleep")
+
+
+def ambient(start: datetime, end: datetime, lux: float, source: str = "indoor") -> LightLayer:
+    """Ambient light replacing the level beneath (indoor lighting, outdoor daylight) [lux]."""
+    return LightLayer(start, end, "set", lux, source)
+
+
+def light_box(start: datetime, end: datetime, lux: float) -> LightLayer:
+    """A light box: at least ``lux`` at the eye while it is in use [lux]."""
+    return LightLayer(start, end, "at_least", lux, "light box")
+
+
+def dark_glasses(start: datetime, end: datetime, transmission: float) -> LightLayer:
+    """Dark (or blue-blocking) glasses passing the fraction ``transmission`` of the light."""
+    return LightLayer(start, end, "scale", transmission, "dark glasses")
+
+
+@dataclass(frozen=True)
+class LightSchedule:
+    """Piecewise-constant illuminance at the eye.
+
+    Attributes
+    ----------
+    epoch : datetime
+        UTC instant of hour 0.
+    edges_h : ndarray, shape (M + 1,)
+        Strictly increasing interval edges [h since ``epoch``].
+    lux : ndarray, shape (M,)
+        Illuminance on each interval [lux].
+    """
+
+    epoch: datetime
+    edges_h: np.ndarray
+    lux: np.ndarray
+
+    def __post_init__(self):
+        epoch = _require_aware(self.epoch, "epoch")
+        edges = np.asarray(self.edges_h, dtype=float)
+        lux = np.asarray(self.lux, dtype=float)
+        if edges.ndim != 1 or lux.ndim != 1 or edges.size != lux.size + 1 or lux.size == 0:
+            raise ScheduleError("a schedule needs M >= 1 lux values and M + 1 edges")
+        if not np.all(np.isfinite(edges)) or np.any(np.diff(edges) <= 0):
+            raise ScheduleError("schedule edges must be finite and strictly increasing")
+        if not np.all(np.isfinite(lux)) or np.any(lux < 0):
+            bad = float(lux[~(np.isfinite(lux) & (lux >= 0))][0])
+            raise ScheduleError(f"lux must be a finite number >= 0, got {bad}", field="lux")
+        object.__setattr__(self, "epoch", epoch)
+        object.__setattr__(self, "edges_h", edges)
+        object.__setattr__(self, "lux", lux)
+
+    @property
+    def start(self) -> datetime:
+        return self.epoch + timedelta(hours=float(self.edges_h[0]))
+
+    @property
+    def end(self) -> datetime:
+        return self.epoch + timedelta(hours=float(self.edges_h[-1]))
+
+    @classmethod
+    def constant(cls, start: datetime, end: datetime, lux: float) -> "LightSchedule":
+        """One level from ``start`` to ``end`` [lux]."""
+        return cls.from_layers(start, end, lux, ())
+
+    @classmethod
+    def from_layers(cls, start: datetime, end: datetime, background_lux: float,
+                    layers: Sequence[LightLayer]) -> "LightSchedule":
+        """Build a schedule from a background level and layers applied in order.
+
+        Parts of layers outside ``[start, end]`` are ignored.  Put ``sleep``
+        layers last so that closed eyes win over any light source.
+        """
+        start = _require_aware(start, "start")
+        end = _require_aware(end, "end")
+        if end <= start:
+            raise ScheduleError("schedule ends at or before it starts", field="end")
+        if not math.isfinite(background_lux) or background_lux < 0:
+            raise ScheduleError(f"background lux must be a finite number >= 0, got {background_lux}",
+                                field="background_lux")
+        span = hours_between(start, end)
+        cuts = [0.0, span]
+        bounds = []
+        for layer in layers:
+            a = min(max(hours_between(start, layer.start), 0.0), span)
+            b = min(max(hours_between(start, layer.end), 0.0), span)
+            bounds.append((a, b))
+            cuts.extend((a, b))
+        edges = np.unique(np.asarray(cuts))
+        edges = edges[np.concatenate(([True], np.diff(edges) > EDGE_TOLERANCE_H))]
+        edges[-1] = span
+        lefts, rights = edges[:-1], edges[1:]
+        mids = 0.5 * (lefts + rights)
+        lux = np.full(mids.shape, float(background_lux))
+        for layer, (a, b) in zip(layers, bounds):
+            inside = (mids > a) & (mids < b)
+            if layer.kind == "set":
+                lux[inside] = layer.value
+            elif layer.kind == "at_least":
+                lux[inside] = np.maximum(lux[inside], layer.value)
+            else:
+                lux[inside] *= layer.value
+        keep = np.concatenate(([True], lux[1:] != lux[:-1]))
+        return cls(start, np.append(edges[:-1][keep], span), lux[keep])
+
+    def relative_to(self, epoch: datetime) -> np.ndarray:
+        """Edges [h] measured from another ``epoch``."""
+        return self.edges_h + hours_between(_require_aware(epoch, "epoch"), self.epoch)
+
+    def lux_at(self, hours: np.ndarray) -> np.ndarray:
+        """Lux in force at ``hours`` since ``epoch`` (right-continuous), shape of ``hours``."""
+        index = np.searchsorted(self.edges_h, hours, side="right") - 1
+        return self.lux[np.clip(index, 0, self.lux.size - 1)]
+
+    def intervals(self) -> list[tuple[datetime, datetime, float]]:
+        """The schedule as (start, end, lux) triples in UTC."""
+        starts = [self.epoch + timedelta(hours=float(h)) for h in self.edges_h]
+        return [(starts[i], starts[i + 1], float(self.lux[i])) for i in range(self.lux.size)]
+
+
+@dataclass(frozen=True)
+class GridLight:
+    """A batch of N schedules on one integration grid.
+
+    Attributes
+    ----------
+    epoch : datetime
+        UTC instant of hour 0.
+    times : ndarray, shape (K + 1,)
+        Grid points [h since ``epoch``].
+    lux : ndarray, shape (K, N)
+        Lux at the start of each step [lux]; the whole step unless it is split.
+    split_step, split_column : ndarray, shape (E,)
+        The (step, schedule) pairs that a light edge splits.
+    split_lengths, split_lux : ndarray, shape (E, P)
+        Their pieces, in time order [h] and [lux]; unused pieces have length 0.
+    """
+
+    epoch: datetime
+    times: np.ndarray
+    lux: np.ndarray
+    split_step: np.ndarray
+    split_column: np.ndarray
+    split_lengths: np.ndarray
+    split_lux: np.ndarray
+
+    @property
+    def size(self) -> int:
+        return self.lux.shape[1]
+
+
+def step_grid(span_h: float, step_h: float) -> np.ndarray:
+    """Grid points 0, step, 2·step, ... ending exactly at ``span_h`` [h]; the last step may be shorter."""
+    count = max(1, math.ceil(span_h / step_h - 1e-9))
+    times = np.arange(count + 1, dtype=float) * step_h
+    times[-1] = span_h
+    return times
+
+
+def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: datetime,
+                   step_h: float) -> GridLight:
+    """Sample schedules onto a common step grid from ``start`` to ``end``.
+
+    Raises
+    ------
+    ScheduleError
+        When a schedule does not cover ``[start, end]``.
+    """
+    if not schedules:
+        raise ScheduleError("no light schedules to simulate")
+    start = _require_aware(start, "start")
+    end = _require_aware(end, "end")
+    span = hours_between(start, end)
+    if span <= 0:
+        raise ScheduleError("simulation ends at or before it starts", field="end")
+    times = step_grid(span, step_h)
+    lefts = times[:-1]
+    lux = np.empty((lefts.size, len(schedules)))
+    per_schedule = []
+    for column, schedule in enumerate(schedules):
+        edges = schedule.relative_to(start)
+        if edges[0] > EDGE_TOLERANCE_H or edges[-1] < span - EDGE_TOLERANCE_H:
+            raise ScheduleError(f"light schedule {column} covers {schedule.start.isoformat()} to "
+                                f"{schedule.end.isoformat()} but the simulation runs from "
+                                f"{start.isoformat()} to {end.isoformat()}")
+        index = np.clip(np.searchsorted(edges, lefts + EDGE_TOLERANCE_H, side="right") - 1, 0, schedule.lux.size - 1)
+        lux[:, column] = schedule.lux[index]
+        inner = edges[(edges > EDGE_TOLERANCE_H) & (edges < span - EDGE_TOLERANCE_H)]
+        if inner.size:
+            nearest = np.abs(times[np.clip(np.searchsorted(times, inner), 0, times.size - 1)] - inner)
+            previous = np.abs(times[np.clip(np.searchsorted(times, inner) - 1, 0, times.size - 1)] - inner)
+            inner = inner[np.minimum(nearest, previous) > EDGE_TOLERANCE_H]
+        per_schedule.append((column, edges, schedule.lux, inner))
+    pieces_max = 1 + max((_most_edges_in_a_step(times, inner) for *_, inner in per_schedule), default=0)
+    steps, columns, lengths, piece_lux = [], [], [], []
+    for column, edges, values, inner in per_schedule:
+        if inner.size == 0:
+            continue
+        step_of_edge = np.searchsorted(times, inner, side="right") - 1
+        split_steps, first, counts = np.unique(step_of_edge, return_index=True, return_counts=True)
+        group = np.repeat(np.arange(split_steps.size), counts)
+        rank = np.arange(inner.size) - first[group]
+        bounds = np.repeat(times[split_steps + 1][:, None], pieces_max + 1, axis=1)
+        bounds[:, 0] = times[split_steps]
+        bounds[group, rank + 1] = inner
+        starts = bounds[:, :-1]
+        index = np.clip(np.searchsorted(edges, starts + EDGE_TOLERANCE_H, side="right") - 1, 0, values.size - 1)
+        steps.append(split_steps)
+        columns.append(np.full(split_steps.size, column))
+        lengths.append(np.diff(bounds, axis=1))
+        piece_lux.append(values[index])
+    if steps:
+        split = (np.concatenate(steps), np.concatenate(columns), np.concatenate(lengths), np.concatenate(piece_lux))
+    else:
+        split = (np.zeros(0, int), np.zeros(0, int), np.zeros((0, pieces_max)), np.zeros((0, pieces_max)))
+    return GridLight(start, times, lux, *split)
+
+
+def _most_edges_in_a_step(times: np.ndarray, inner: np.ndarray) -> int:
+    if inner.size == 0:
+        return 0
+    return int(np.bincount(np.searchsorted(times, inner, side="right") - 1).max())
