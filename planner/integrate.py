@@ -247,4 +247,16 @@ def simulate(model: ModelSpec, schedules: LightSchedule | Sequence[LightSchedule
     step_h = default_step_h(model) if step_minutes is None else step_minutes / MINUTES_PER_HOUR
     if not step_h > 0:
         raise InputError(f"step must be positive, got {step_minutes} min", field="step_minutes")
-    return integrate(model, sample_on_grid(schedules, start, end, step_h), initial_state)
+    light = sample_on_grid(schedules, start, end, step_h)
+    people = model_batch_size(model)
+    if light.size == 1 and people > 1:
+        light = light.repeated(people)
+    return integrate(model, light, initial_state)
+
+
+def model_batch_size(model: ModelSpec) -> int:
+    """N implied by per-person parameter arrays (1 when all are scalars)."""
+    sizes = {np.size(v) for v in model.values.values() if np.ndim(v) == 1}
+    if len(sizes) > 1:
+        raise InputError(f"per-person parameters have different lengths {sorted(sizes)}", field="parameters")
+    return sizes.pop() if sizes else 1

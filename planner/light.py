@@ -232,6 +232,15 @@ class GridLight:
     def size(self) -> int:
         return self.lux.shape[1]
 
+    def repeated(self, count: int) -> "GridLight":
+        """The batch of one schedule repeated ``count`` times (e.g. for N people)."""
+        if self.size != 1:
+            raise ScheduleError(f"only a single schedule can be repeated, not {self.size}")
+        e = self.split_step.size
+        return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
+                         np.tile(self.split_step, count), np.repeat(np.arange(count), e),
+                         np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)))
+
 
 def step_grid(span_h: float, step_h: float) -> np.ndarray:
     """Grid points 0, step, 2·step, ... ending exactly at ``span_h`` [h]; the last step may be shorter."""
