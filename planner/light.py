@@ -254,6 +254,10 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
                    step_h: float) -> GridLight:
     """Sample schedules onto a common step grid from ``start`` to ``end``.
 
+    All schedules are handled in one vectorised pass: their edges are laid end
+    to end on one axis, schedule j shifted by j·width, so that one
+    :func:`numpy.searchsorted` serves the whole batch.
+
     Raises
     ------
     ScheduleError
@@ -268,48 +272,54 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
         raise ScheduleError("simulation ends at or before it starts", field="end")
     times = step_grid(span, step_h)
     lefts = times[:-1]
-    lux = np.empty((lefts.size, len(schedules)))
-    per_schedule = []
-    for column, schedule in enumerate(schedules):
-        edges = schedule.relative_to(start)
-        if edges[0] > EDGE_TOLERANCE_H or edges[-1] < span - EDGE_TOLERANCE_H:
+    size = len(schedules)
+    edges = [schedule.relative_to(start) for schedule in schedules]
+    for column, (schedule, e) in enumerate(zip(schedules, edges)):
+        if e[0] > EDGE_TOLERANCE_H or e[-1] < span - EDGE_TOLERANCE_H:
             raise ScheduleError(f"light schedule {column} covers {schedule.start.isoformat()} to "
                                 f"{schedule.end.isoformat()} but the simulation runs from "
                                 f"{start.isoformat()} to {end.isoformat()}")
-        index = np.clip(np.searchsorted(edges, lefts + EDGE_TOLERANCE_H, side="right") - 1, 0, schedule.lux.size - 1)
-        lux[:, column] = schedule.lux[index]
-        inner = edges[(edges > EDGE_TOLERANCE_H) & (edges < span - EDGE_TOLERANCE_H)]
-        if inner.size:
-            nearest = np.abs(times[np.clip(np.searchsorted(times, inner), 0, times.size - 1)] - inner)
-            previous = np.abs(times[np.clip(np.searchsorted(times, inner) - 1, 0, times.size - 1)] - inner)
-            inner = inner[np.minimum(nearest, previous) > EDGE_TOLERANCE_H]
-        per_schedule.append((column, edges, schedule.lux, inner))
-    pieces_max = 1 + max((_most_edges_in_a_step(times, inner) for *_, inner in per_schedule), default=0)
-    steps, columns, lengths, piece_lux = [], [], [], []
-    for column, edges, values, inner in per_schedule:
-        if inner.size == 0:
-            continue
-        step_of_edge = np.searchsorted(times, inner, side="right") - 1
-        split_steps, first, counts = np.unique(step_of_edge, return_index=True, return_counts=True)
-        group = np.repeat(np.arange(split_steps.size), counts)
-        rank = np.arange(inner.size) - first[group]
-        bounds = np.repeat(times[split_steps + 1][:, None], pieces_max + 1, axis=1)
-        bounds[:, 0] = times[split_steps]
-        bounds[group, rank + 1] = inner
-        starts = bounds[:, :-1]
-        index = np.clip(np.searchsorted(edges, starts + EDGE_TOLERANCE_H, side="right") - 1, 0, values.size - 1)
-        steps.append(split_steps)
-        columns.append(np.full(split_steps.size, column))
-        lengths.append(np.diff(bounds, axis=1))
-        piece_lux.append(values[index])
-    if steps:
-        split = (np.concatenate(steps), np.concatenate(columns), np.concatenate(lengths), np.concatenate(piece_lux))
-    else:
-        split = (np.zeros(0, int), np.zeros(0, int), np.zeros((0, pieces_max)), np.zeros((0, pieces_max)))
-    return GridLight(start, times, lux, *split)
+    counts = np.array([e.size for e in edges])
+    column_of_edge = np.repeat(np.arange(size), counts)
+    all_edges = np.concatenate(edges)
+    all_lux = np.concatenate([schedule.lux for schedule in schedules])
+    origin = min(float(all_edges.min()), 0.0)
+    width = max(float(all_edges.max()), span) - origin + 1.0
+    keys = all_edges - origin + column_of_edge * width
+    first_lux = np.concatenate(([0], np.cumsum(counts - 1)))
 
+    def lux_at(column: np.ndarray, hours: np.ndarray) -> np.ndarray:
+        # Edge index within the stacked axis, minus one edge per earlier schedule = lux index.
+        index = np.searchsorted(keys, hours + EDGE_TOLERANCE_H - origin + column * width, side="right") - 1
+        index = np.clip(index - column, first_lux[column], first_lux[column + 1] - 1)
+        return all_lux[index]
 
-def _most_edges_in_a_step(times: np.ndarray, inner: np.ndarray) -> int:
+    # Grid points per interval: the step starting at t_k takes the lux in force at t_k.
+    below = np.searchsorted(lefts + EDGE_TOLERANCE_H, all_edges, side="left")
+    last_edge = np.cumsum(counts) - 1
+    below[last_edge] = lefts.size
+    below[last_edge - counts + 1] = 0
+    points = np.delete(np.diff(below), last_edge[:-1])
+    lux = np.repeat(all_lux, points).reshape(size, lefts.size).T
+
+    interior = (all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H)
+    inner, inner_column = all_edges[interior], column_of_edge[interior]
+    position = np.clip(np.searchsorted(times, inner), 1, times.size - 1)
+    off_grid = np.minimum(np.abs(times[position] - inner), np.abs(times[position - 1] - inner)) > EDGE_TOLERANCE_H
+    inner, inner_column = inner[off_grid], inner_column[off_grid]
     if inner.size == 0:
-        return 0
-    return int(np.bincount(np.searchsorted(times, inner, side="right") - 1).max())
+        return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)))
+    step_of_edge = np.searchsorted(times, inner, side="right") - 1
+    group_key = inner_column * lefts.size + step_of_edge
+    unique_keys, first, per_group = np.unique(group_key, return_index=True, return_counts=True)
+    pieces = int(per_group.max()) + 1
+    group = np.repeat(np.arange(unique_keys.size), per_group)
+    rank = np.arange(inner.size) - first[group]
+    split_column = unique_keys // lefts.size
+    split_step = unique_keys % lefts.size
+    bounds = np.repeat(times[split_step + 1][:, None], pieces + 1, axis=1)
+    bounds[:, 0] = times[split_step]
+    bounds[group, rank + 1] = inner
+    starts = bounds[:, :-1]
+    split_lux = lux_at(np.repeat(split_column[:, None], pieces, axis=1), starts)
+    return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux)

@@ -253,8 +253,10 @@ class Hannay2019(EquationFamily):
             omega0=values["omega0"],
             half_a1=values["A1"] / 2.0,
             half_a2=values["A2"] / 2.0,
-            beta_l1=values["betaL1"],
-            beta_l2=values["betaL2"],
+            cos_l1=np.cos(values["betaL1"]),
+            sin_l1=np.sin(values["betaL1"]),
+            cos_l2=np.cos(values["betaL2"]),
+            sin_l2=np.sin(values["betaL2"]),
             sigma=values["sigma"],
         )
 
@@ -262,15 +264,22 @@ class Hannay2019(EquationFamily):
         r, psi = state[0], state[1]
         r4 = r * r * r * r
         r8 = r4 * r4
-        first = psi + c.beta_l1
-        second = 2.0 * psi + c.beta_l2
+        # cos/sin of ψ + βL1 and 2ψ + βL2 by the angle-addition formulas: two
+        # transcendental calls per evaluation instead of four.
+        cos_psi, sin_psi = np.cos(psi), np.sin(psi)
+        cos_2psi = cos_psi * cos_psi - sin_psi * sin_psi
+        sin_2psi = 2.0 * sin_psi * cos_psi
+        cos_first = cos_psi * c.cos_l1 - sin_psi * c.sin_l1
+        sin_first = sin_psi * c.cos_l1 + cos_psi * c.sin_l1
+        cos_second = cos_2psi * c.cos_l2 - sin_2psi * c.sin_l2
+        sin_second = sin_2psi * c.cos_l2 + cos_2psi * c.sin_l2
         a1 = c.half_a1 * drive
         a2 = c.half_a2 * drive
         out = np.empty_like(state)
         out[0] = (-c.gamma * r + c.radial * r * (1.0 - r4)
-                  + a1 * (1.0 - r4) * np.cos(first) + a2 * r * (1.0 - r8) * np.cos(second))
+                  + a1 * (1.0 - r4) * cos_first + a2 * r * (1.0 - r8) * cos_second)
         out[1] = (c.omega0 + c.angular * (1.0 + r4) + c.sigma * drive
-                  - a1 * (r * r * r + 1.0 / r) * np.sin(first) - a2 * (1.0 + r8) * np.sin(second))
+                  - a1 * (r * r * r + 1.0 / r) * sin_first - a2 * (1.0 + r8) * sin_second)
         return out
 
     def steady_amplitude(self, c: SimpleNamespace) -> np.ndarray:
