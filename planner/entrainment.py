@@ -15,7 +15,7 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from planner.errors import InputError
+from planner.errors import ComputationError, InputError
 from planner.integrate import model_batch_size, simulate
 from planner.light import LightLayer, LightSchedule, ambient, sleep
 from planner.markers import HOURS_PER_DAY, TWO_PI, cbtmin_times, daily_markers, dlmo_times, phase_difference
@@ -236,7 +236,7 @@ def free_running_period(model: ModelSpec, lux: float = 0.0, *, transient_days: i
     schedule = LightSchedule.constant(start, start + timedelta(days=days), lux)
     result = simulate(model, schedule, guess_state(model, 4.0, size))
     if not result.success:
-        raise InputError(result.message, field="model")
+        raise ComputationError(result.message)
     periods = []
     cycles = 0
     for times in cbtmin_times(result):

@@ -77,14 +77,39 @@ def _per_column(times: np.ndarray, columns: np.ndarray, size: int) -> list[np.nd
 
 
 def x_minima(result: SimulationResult) -> list[np.ndarray]:
-    """Times [h] of the minima of the first state variable, one array per schedule."""
+    """Times [h] of the minimum of the first state variable in each cycle, one array per schedule.
+
+    Light switched on while x is falling can make x turn up for a while and fall
+    again, leaving two local minima in one cycle; a cycle (one turn of the phase
+    angle, counted from the maxima of x) keeps only its lowest minimum, and only
+    minima on the lower half of the cycle count.
+    """
     x = result.states[:, 0, :]
     dx = result.derivatives()[:, 0, :]
     rising = (dx[:-1] < 0) & (dx[1:] >= 0) & np.isfinite(dx[:-1]) & np.isfinite(dx[1:])
     rows, cols = np.nonzero(rising)
     t = result.times
     when = _hermite_minimum(t[rows], t[rows + 1], x[rows, cols], x[rows + 1, cols], dx[rows, cols], dx[rows + 1, cols])
-    return _per_column(when, cols, result.size)
+    value = _hermite_value(t[rows], t[rows + 1], x[rows, cols], x[rows + 1, cols], dx[rows, cols], dx[rows + 1, cols], when)
+    angle = np.unwrap(result.model.family.phase_angle(np.moveaxis(result.states[:, :2, :], 1, 0)), axis=0)
+    at = angle[rows, cols]
+    # A minimum of x lies on the lower half of the cycle (angle near π); a light edge can put
+    # a kink minimum near the maximum of x, which is no CBTmin.
+    lower_half = np.abs(np.mod(at, TWO_PI) - math.pi) < math.pi / 2
+    rows, cols, when, value, at = rows[lower_half], cols[lower_half], when[lower_half], value[lower_half], at[lower_half]
+    cycle = np.floor(at / TWO_PI)
+    order = np.lexsort((value, cycle, cols))
+    keep = np.ones(order.size, bool)
+    keep[1:] = (cols[order][1:] != cols[order][:-1]) | (cycle[order][1:] != cycle[order][:-1])
+    chosen = order[keep]
+    return _per_column(when[chosen], cols[chosen], result.size)
+
+
+def _hermite_value(t0, t1, y0, y1, d0, d1, when):
+    h = t1 - t0
+    s = np.where(h > 0, (when - t0) / np.where(h > 0, h, 1.0), 0.0)
+    s2, s3 = s * s, s * s * s
+    return ((2 * s3 - 3 * s2 + 1) * y0 + (s3 - 2 * s2 + s) * d0 * h + (-2 * s3 + 3 * s2) * y1 + (s3 - s2) * d1 * h)
 
 
 def angle_crossings(result: SimulationResult, angle_rad: float) -> list[np.ndarray]:

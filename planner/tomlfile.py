@@ -105,12 +105,17 @@ def locate_line(text: str, field: tuple[str | int, ...]) -> int | None:
 
 
 def _find_key(lines: list[str], start: int, keys: list[str]) -> int | None:
-    for key in reversed(keys):
+    """Find each key in turn, each search starting where the previous key was found."""
+    found = None
+    for key in keys:
         pattern = re.compile(r"(^|[\s{,])" + re.escape(key) + r"\s*=")
         for number in range(start, len(lines)):
             if pattern.search(lines[number]):
-                return number + 1
-    return None
+                found = start = number
+                break
+        else:
+            break
+    return None if found is None else found + 1
 
 
 def _describe(error: dict[str, Any]) -> str:

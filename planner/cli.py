@@ -1,0 +1,493 @@
+"""The ``phaseplan`` command line: parse the arguments, call the library, format the result.
+
+No science lives here: every number comes from :mod:`planner`.  House rules:
+
+- ``--json`` writes exactly one JSON document (with ``"schema_version": 1``) to
+  stdout; tables, notes and errors go to stderr, so stdout stays clean.
+- Exit codes: 0 ok, 1 a computation failed (:class:`planner.errors.ComputationError`),
+  2 bad input (:class:`planner.errors.InputError` and its subclasses, and usage
+  errors), 130 interrupted.  An error is printed as one line on stderr, never
+  as a traceback.
+- Text from model files (names, sources, paths) is escaped before it reaches
+  rich markup.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import sys
+from collections.abc import Sequence
+from typing import Annotated, Any, NoReturn
+
+import typer
+from rich import box
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+from typer.core import TyperGroup
+
+from planner._version import __version__
+from planner.entrainment import DEFAULT_DAY, DailyPattern, entrain, free_running_period
+from planner.errors import ComputationError, InputError, PhaseplanError
+from planner.parameters import ModelSpec, available_models, load_model
+from planner.prc import DEFAULT_MEASURE_AFTER_DAYS, phase_response_curve, summarise
+
+try:  # recent typer carries its own copy of click; its errors derive from TyperException
+    from typer import TyperException as _UsageProblem
+except ImportError:  # pragma: no cover - older typer builds on click itself
+    from click import ClickException as _UsageProblem
+
+SCHEMA_VERSION = 1
+PROGRAM = "phaseplan"
+
+#: Exit statuses of the command line.
+EXIT_OK = 0
+EXIT_COMPUTATION_FAILED = 1
+EXIT_BAD_INPUT = 2
+EXIT_INTERRUPTED = 130
+
+#: Constant light levels at which ``models show`` reports the free-running period [lux].
+FREE_RUN_LEVELS_LUX = (0.0, 10.0)
+
+#: Half-width of the PRC table's text bar [characters].
+BAR_WIDTH = 12
+
+
+# --------------------------------------------------------------------------- errors and exit codes
+
+def _one_line(text: str) -> str:
+    return " ".join(str(text).split())
+
+
+def _fail(prefix: str, text: str, code: int) -> int:
+    sys.stderr.write(f"{PROGRAM}: {prefix}: {_one_line(text)}\n")
+    sys.stderr.flush()
+    return code
+
+
+class _PhaseplanGroup(TyperGroup):
+    """The top-level group: maps library errors to exit codes in one place.
+
+    Both the console script (:func:`main`) and ``typer.testing.CliRunner`` enter
+    through this ``main``, so the mapping is the same for both.
+    """
+
+    def main(self, args: Sequence[str] | None = None, prog_name: str | None = None,
+             complete_var: str | None = None, standalone_mode: bool = True, **extra: Any) -> Any:
+        if not standalone_mode:
+            return super().main(args=args, prog_name=prog_name, complete_var=complete_var,
+                                standalone_mode=False, **extra)
+        sys.exit(self._status(args, prog_name, complete_var, extra))
+
+    def _status(self, args: Sequence[str] | None, prog_name: str | None, complete_var: str | None,
+                extra: dict[str, Any]) -> int:
+        """Run non-standalone and turn every outcome into an exit status."""
+        try:
+            result = super().main(args=args, prog_name=prog_name, complete_var=complete_var,
+                                  standalone_mode=False, **extra)
+        except InputError as exc:
+            return _fail("error", exc.one_line(), EXIT_BAD_INPUT)
+        except ComputationError as exc:
+            return _fail("computation failed", str(exc), EXIT_COMPUTATION_FAILED)
+        except PhaseplanError as exc:
+            return _fail("error", str(exc), EXIT_COMPUTATION_FAILED)
+        except _UsageProblem as exc:
+            context = getattr(exc, "ctx", None)
+            hint = f" (see '{context.command_path} --help')" if context is not None else ""
+            return _fail("error", exc.format_message() + hint, getattr(exc, "exit_code", EXIT_BAD_INPUT))
+        except typer.Abort:
+            return _fail("error", "aborted", EXIT_COMPUTATION_FAILED)
+        except KeyboardInterrupt:
+            return _fail("error", "interrupted", EXIT_INTERRUPTED)
+        # Non-standalone typer returns the status of a typer.Exit, or the command's return value (None).
+        return result if isinstance(result, int) else EXIT_OK
+
+
+# --------------------------------------------------------------------------- apps and shared options
+
+app = typer.Typer(
+    name=PROGRAM,
+    cls=_PhaseplanGroup,
+    help=("Simulate human circadian phase with published models (forger1999, jewett1999, hannay2019) "
+          "driven by the light a person sees.\n\n"
+          "Human-readable output goes to stderr; [bold]--json[/bold] writes one JSON document to stdout."),
+    epilog="Exit codes: 0 ok, 1 computation failed, 2 bad input, 130 interrupted.",
+    rich_markup_mode="rich",
+    add_completion=False,
+    pretty_exceptions_enable=False,
+)
+models_app = typer.Typer(help=("List the built-in models (id, equation family, DOI, citation); "
+                               "[bold]models show ID_OR_PATH[/bold] shows one in detail."),
+                         rich_markup_mode="rich")
+app.add_typer(models_app, name="models")
+
+JsonOption = Annotated[bool, typer.Option(
+    "--json", help="Write one JSON document (schema_version 1) to stdout instead of tables on stderr.")]
+ModelOption = Annotated[str, typer.Option(
+    "--model", "-m", metavar="ID_OR_PATH",
+    help=f"Built-in model id ({', '.join(available_models())}) or the path of a model .toml file.")]
+
+
+def _version_callback(value: bool) -> None:
+    if value:
+        sys.stdout.write(f"{PROGRAM} {__version__}\n")
+        raise typer.Exit(EXIT_OK)
+
+
+@app.callback(invoke_without_command=True)
+def _root(
+    ctx: typer.Context,
+    version: Annotated[bool, typer.Option("--version", is_eager=True, callback=_version_callback,
+                                          help="Print the version and exit.")] = False,
+) -> None:
+    """Simulate human circadian phase with published models driven by the light a person sees."""
+    if ctx.invoked_subcommand is None:
+        sys.stdout.write(ctx.get_help())  # as for --help (rich help prints itself and returns "")
+
+
+# --------------------------------------------------------------------------- formatting helpers
+
+def _stderr() -> Console:
+    """A console on the current stderr (looked up per call, so test runners can swap it)."""
+    return Console(stderr=True, highlight=False)
+
+
+def _emit_json(document: dict[str, Any]) -> None:
+    document = {"schema_version": SCHEMA_VERSION, **document}
+    sys.stdout.write(json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
+    sys.stdout.flush()
+
+
+def _number(value: Any) -> float | None:
+    """A float for JSON; None for NaN or infinity."""
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def _clock(hours: Any) -> str:
+    """Clock hours as HH:MM (wrapped to the day); 'n/a' when not finite."""
+    value = float(hours)
+    if not math.isfinite(value):
+        return "n/a"
+    minutes = round(value * 60.0) % (24 * 60)
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"
+
+
+def _signed(hours: float, digits: int = 2) -> str:
+    text = f"{hours:+.{digits}f}"
+    return text[1:] if float(text) == 0 else text
+
+
+def _from_cbtmin(phase_h: float) -> str:
+    if abs(phase_h) < 0.005:
+        return "at CBTmin"
+    return f"{abs(phase_h):.1f} h {'before' if phase_h < 0 else 'after'} CBTmin"
+
+
+def _lux(value: float) -> str:
+    return f"{value:,.0f}" if value >= 10 or value == int(value) else f"{value:g}"
+
+
+def _citation_entry(model: ModelSpec) -> dict[str, Any]:
+    return {"model": model.id, "text": model.citation, "doi": model.file.citation.doi or None}
+
+
+def _model_entry(model: ModelSpec) -> dict[str, Any]:
+    return {"id": model.id, "name": model.file.name, "equations": model.file.equations,
+            "based_on": model.file.based_on or None, "path": model.path}
+
+
+def _pattern_entry(pattern: DailyPattern) -> dict[str, Any]:
+    return {
+        "sleep_start_h": pattern.sleep_start_h,
+        "sleep_end_h": pattern.sleep_end_h,
+        "sleep_lux": 0.0,
+        "indoor_lux": pattern.indoor_lux,
+        "daylight": [{"start_h": start, "end_h": end, "lux": lux} for start, end, lux in pattern.daylight],
+        "description": _describe_pattern(pattern),
+    }
+
+
+def _describe_pattern(pattern: DailyPattern) -> str:
+    parts = [f"sleep {_clock(pattern.sleep_start_h)}–{_clock(pattern.sleep_end_h)} (eyes closed, 0 lux)",
+             f"{_lux(pattern.indoor_lux)} lux indoors while awake"]
+    parts += [f"{_lux(lux)} lux daylight {_clock(start)}–{_clock(end)}" for start, end, lux in pattern.daylight]
+    return "; ".join(parts)
+
+
+def _print_facts(console: Console, title: str | None, rows: Sequence[tuple[str, str]]) -> None:
+    """Label/value lines whose values wrap under themselves (markup already escaped)."""
+    if title:
+        console.print(f"\n[bold]{title}[/bold]")
+    grid = Table.grid(padding=(0, 2))
+    grid.add_column(no_wrap=True)
+    grid.add_column()
+    for label, value in rows:
+        grid.add_row(f"  {label}", value)
+    console.print(grid)
+
+
+def _print_citations(console: Console, models: Sequence[ModelSpec]) -> None:
+    label = "Citation" if len(models) == 1 else "Citations"
+    console.print(f"\n[bold]{label}[/bold]")
+    grid = Table.grid(padding=(0, 2))
+    grid.add_column(no_wrap=True)
+    grid.add_column()
+    for model in models:
+        grid.add_row(f"  {escape(model.id)}", escape(model.citation))
+    console.print(grid)
+
+
+# --------------------------------------------------------------------------- models
+
+@models_app.callback(invoke_without_command=True)
+def models(ctx: typer.Context, json_out: JsonOption = False) -> None:
+    """List the built-in models: id, name, equation family and citation."""
+    if ctx.invoked_subcommand is not None:
+        ctx.obj = {"json": json_out}
+        return
+    specs = [load_model(name) for name in available_models()]
+    if json_out:
+        _emit_json({
+            "command": "models",
+            "models": [{**_model_entry(spec), "citation": {**spec.file.citation.model_dump(), "text": spec.citation}}
+                       for spec in specs],
+            "citations": [_citation_entry(spec) for spec in specs],
+        })
+        return
+    console = _stderr()
+    table = Table(title="Built-in models", box=box.SIMPLE_HEAD, show_lines=False)
+    table.add_column("id", style="bold", no_wrap=True)
+    table.add_column("equations", no_wrap=True)
+    table.add_column("DOI", no_wrap=True)
+    table.add_column("name")
+    for spec in specs:
+        table.add_row(escape(spec.id), escape(spec.file.equations), escape(spec.file.citation.doi or "—"),
+                      escape(spec.file.name))
+    console.print(table)
+    _print_citations(console, specs)
+    console.print(f"\nDetails: [bold]{PROGRAM} models show ID[/bold]  (or a path to your own .toml file)")
+
+
+@models_app.command("show", help=(
+    "Show one model: parameters with units and sources, phase markers, numerics and validity notes, "
+    "plus its free-running period (darkness and 10 lux) and its entrained CBTmin and DLMO on the default day "
+    f"({_describe_pattern(DEFAULT_DAY)})."))
+def models_show(
+    ctx: typer.Context,
+    model_name: Annotated[str, typer.Argument(metavar="ID_OR_PATH",
+                                              help="Built-in model id or the path of a model .toml file.")],
+    json_out: JsonOption = False,
+) -> None:
+    """Show one model in detail (help text on the decorator)."""
+    json_out = json_out or bool((ctx.obj or {}).get("json"))
+    model = load_model(model_name)
+    free_runs = [free_running_period(model, lux) for lux in FREE_RUN_LEVELS_LUX]
+    steady = entrain(model, DEFAULT_DAY)
+    rules = model.family.parameter_rules
+    markers = model.file.markers
+    if json_out:
+        _emit_json({
+            "command": "models show",
+            "model": _model_entry(model),
+            "citation": {**model.file.citation.model_dump(), "text": model.citation},
+            "parameters": {name: {**p.model_dump(), "meaning": rules[name].meaning if name in rules else None}
+                           for name, p in model.file.parameters.items()},
+            "markers": markers.model_dump(),
+            "numerics": model.file.numerics.model_dump(),
+            "validity": list(model.file.validity),
+            "properties": {
+                "free_running": [{"lux": run.lux, "period_h": _number(run.period_h[0]), "cycles": run.cycles}
+                                 for run in free_runs],
+                "entrainment": {
+                    "day": _pattern_entry(DEFAULT_DAY),
+                    "success": steady.success,
+                    "message": steady.message,
+                    "days_simulated": steady.days_simulated,
+                    "cbtmin_clock_h": _number(steady.cbtmin_clock_h[0]),
+                    "cbtmin_clock": _clock(steady.cbtmin_clock_h[0]),
+                    "dlmo_clock_h": _number(steady.dlmo_clock_h[0]),
+                    "dlmo_clock": _clock(steady.dlmo_clock_h[0]),
+                },
+            },
+            "citations": [_citation_entry(model)],
+        })
+        return
+
+    console = _stderr()
+    console.print(f"[bold]{escape(model.id)}[/bold] — {escape(model.file.name)}")
+    about = [("equations", escape(model.file.equations))]
+    if model.file.based_on:
+        about.append(("based on", escape(model.file.based_on)))
+    about.append(("file", escape(model.path)))
+    _print_facts(console, None, about)
+
+    console.print()
+    parameters = Table(title="Parameters", box=box.SIMPLE_HEAD, title_justify="left")
+    parameters.add_column("name", style="bold", no_wrap=True)
+    parameters.add_column("value", justify="right", no_wrap=True)
+    parameters.add_column("units", no_wrap=True)
+    parameters.add_column("meaning")
+    parameters.add_column("source")
+    for name, parameter in model.file.parameters.items():
+        meaning = rules[name].meaning if name in rules else ""
+        parameters.add_row(escape(name), f"{parameter.value:g}", escape(parameter.units or "1"),
+                           escape(meaning), escape(parameter.source))
+    console.print(parameters)
+
+    marker_table = Table(title="Phase markers", box=box.SIMPLE_HEAD, title_justify="left")
+    marker_table.add_column("marker", style="bold", no_wrap=True)
+    marker_table.add_column("rule", no_wrap=True)
+    marker_table.add_column("source")
+    for label, rule in (("CBTmin", markers.cbtmin), ("DLMO", markers.dlmo)):
+        how = rule.rule
+        if rule.angle_rad is not None:
+            how += f" {rule.angle_rad:.4f} rad"
+        if rule.offset_h:
+            how += f", offset {rule.offset_h:+g} h"
+        marker_table.add_row(label, escape(how), escape(rule.source))
+    console.print(marker_table)
+
+    _print_facts(console, "Numerics", [
+        ("step", f"{model.file.numerics.step_minutes:g} min — {escape(model.file.numerics.source)}")])
+
+    properties = []
+    for run in free_runs:
+        where = "in darkness" if run.lux == 0 else f"at {_lux(run.lux)} lux"
+        period = float(run.period_h[0])
+        shown = f"[bold]{period:.2f} h[/bold] ({run.cycles} cycles)" if math.isfinite(period) else "n/a (too few cycles)"
+        properties.append((f"free-running period {where}", shown))
+    properties.append(("default day", escape(_describe_pattern(DEFAULT_DAY))))
+    if steady.success:
+        properties.append(("entrained", f"CBTmin [bold]{_clock(steady.cbtmin_clock_h[0])}[/bold], "
+                                        f"DLMO [bold]{_clock(steady.dlmo_clock_h[0])}[/bold]"))
+        properties.append(("", escape(steady.message)))
+    else:
+        properties.append(("entrained", f"[bold]no[/bold] — {escape(steady.message)}"))
+    _print_facts(console, "Computed properties", properties)
+
+    if model.file.validity:
+        _print_facts(console, "Validity", [("•", escape(note)) for note in model.file.validity])
+    _print_citations(console, [model])
+
+
+# --------------------------------------------------------------------------- prc
+
+def _bar(shift: float, scale: float) -> str:
+    cells = min(BAR_WIDTH, round(abs(shift) / scale)) if scale > 0 else 0
+    if shift < 0:
+        return f"{' ' * (BAR_WIDTH - cells)}[dark_orange]{'█' * cells}[/dark_orange]│{' ' * BAR_WIDTH}"
+    return f"{' ' * BAR_WIDTH}│[dodger_blue2]{'█' * cells}[/dodger_blue2]{' ' * (BAR_WIDTH - cells)}"
+
+
+@app.command("prc", help=(
+    "Phase response curve: the shift of CBTmin after a single light pulse centred at each phase.\n\n"
+    "Protocol (as in the human PRC studies): entrain to the default day, then constant dim light from wake; "
+    "one pulse per run; the shift is the unpulsed control's CBTmin minus the pulsed CBTmin, read days after "
+    "the pulse (+ advance, − delay)."))
+def prc(
+    model_name: ModelOption = "forger1999",
+    hours: Annotated[float, typer.Option("--hours", metavar="H",
+                                         help="Pulse duration in hours (0 < H ≤ 16).")] = 6.7,
+    lux: Annotated[float, typer.Option("--lux", metavar="L", help="Pulse illuminance at the eye, in lux.")] = 10_000.0,
+    background: Annotated[float, typer.Option("--background", metavar="B",
+                                              help="Dim constant light before, around and after the pulse, in lux.")] = 10.0,
+    step: Annotated[float, typer.Option("--step", metavar="S",
+                                        help="Spacing of the pulse phases in hours (0.1 to 6).")] = 1.0,
+    json_out: JsonOption = False,
+) -> None:
+    """Phase response curve of one pulse type (help text on the decorator)."""
+    model = load_model(model_name)
+    response = phase_response_curve(model, duration_h=hours, lux=lux, background_lux=background, step_h=step)
+    summary = summarise(response)
+    reference_clock_h = response.reference_cbtmin_h % 24.0
+    half = hours / 2.0
+    points = [{
+        "phase_h": float(phase),
+        "shift_h": _number(shift),
+        "pulse_start_clock": _clock(reference_clock_h + phase - half),
+        "pulse_end_clock": _clock(reference_clock_h + phase + half),
+    } for phase, shift in zip(response.phases_h, response.shifts_h)]
+    protocol = {
+        "pulse_hours": hours,
+        "pulse_lux": lux,
+        "background_lux": background,
+        "phase_step_h": step,
+        "entrained_to": _pattern_entry(DEFAULT_DAY),
+        "measure_after_days": DEFAULT_MEASURE_AFTER_DAYS,
+        "reference_cbtmin_clock_h": _number(reference_clock_h),
+        "reference_cbtmin_clock": _clock(reference_clock_h),
+    }
+    if json_out:
+        _emit_json({
+            "command": "prc",
+            "model": _model_entry(model),
+            "protocol": protocol,
+            "conventions": {
+                "phase_h": "pulse centre in hours from the control's CBTmin; negative = before CBTmin",
+                "shift_h": "phase shift of CBTmin in hours; positive = advance, negative = delay",
+                "clock": "local clock on the protocol day, HH:MM",
+            },
+            "points": points,
+            "summary": {key: (_number(value) if isinstance(value, float) else value)
+                        for key, value in vars(summary).items()},
+            "citations": [_citation_entry(model)],
+        })
+        return
+
+    console = _stderr()
+    console.print(f"[bold]Phase response curve[/bold] — {escape(model.id)}")
+    _print_facts(console, None, [
+        ("pulse", f"{hours:g} h of {_lux(lux)} lux on a {_lux(background)}-lux background"),
+        ("entrained to", escape(_describe_pattern(DEFAULT_DAY))),
+        ("then", f"{_lux(background)} lux constant from wake; one pulse per run, centred at each phase"),
+        ("phase", f"pulse centre in hours from the control's CBTmin (day 1, {_clock(reference_clock_h)}); "
+                  "− before, + after"),
+        ("shift", f"control CBTmin minus pulsed CBTmin, read {DEFAULT_MEASURE_AFTER_DAYS} days after the pulse "
+                  "(+ advance, − delay)"),
+    ])
+    largest = max((abs(s) for s in response.shifts_h if math.isfinite(s)), default=0.0)
+    scale = largest / BAR_WIDTH if largest > 0 else 0.0
+    table = Table(box=box.SIMPLE_HEAD)
+    table.add_column("phase\n(h)", justify="right", no_wrap=True)
+    table.add_column("pulse\n(clock)", justify="center", no_wrap=True)
+    table.add_column("shift\n(h)", justify="right", no_wrap=True)
+    table.add_column(f"\n{'delay ◀':>{BAR_WIDTH}} {'▶ advance':<{BAR_WIDTH}}", no_wrap=True)
+    for point, shift in zip(points, response.shifts_h):
+        table.add_row(_signed(point["phase_h"], 1), f"{point['pulse_start_clock']}–{point['pulse_end_clock']}",
+                      _signed(float(shift)), _bar(float(shift), scale))
+    console.print(table)
+    if scale > 0:
+        console.print(f"  bar: one █ ≈ {scale:.2f} h")
+    crossover = ("none found" if summary.crossover_h is None
+                 else f"pulse centred {_from_cbtmin(summary.crossover_h)}")
+    dead_zone = ("none" if summary.dead_zone_h == 0
+                 else f"{summary.dead_zone_h:.1f} h (longest run of pulse phases)")
+    _print_facts(console, "Summary", [
+        ("largest advance", f"[bold]{_signed(summary.max_advance_h)} h[/bold], pulse centred "
+                            f"{_from_cbtmin(summary.max_advance_phase_h)}"),
+        ("largest delay", f"[bold]{_signed(summary.max_delay_h)} h[/bold], pulse centred "
+                          f"{_from_cbtmin(summary.max_delay_phase_h)}"),
+        ("delay→advance crossover", crossover),
+        ("peak-to-trough", f"{summary.peak_to_trough_h:.2f} h"),
+        (f"dead zone (|shift| < {summary.dead_zone_threshold_h:g} h)", dead_zone),
+        ("note", f"a model prediction for an average adult; see '{PROGRAM} models show "
+                 f"{escape(model.id)}' for the model's validity notes"),
+    ])
+    _print_citations(console, [model])
+
+
+# --------------------------------------------------------------------------- entry point
+
+def main(argv: Sequence[str] | None = None) -> NoReturn:
+    """Console-script entry point: run the app and exit with its status (see the module docstring)."""
+    try:
+        app(args=argv, prog_name=PROGRAM)
+    except KeyboardInterrupt:  # raised before typer took over (e.g. while importing)
+        sys.exit(_fail("error", "interrupted", EXIT_INTERRUPTED))
+    sys.exit(EXIT_OK)  # pragma: no cover - the group's main always exits
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()
