@@ -2,9 +2,12 @@
 
 CBTmin is read by the rule in the model file (``markers.cbtmin``): the minimum of
 x plus an offset for the van der Pol models, or the crossing of ψ = π for
-hannay2019.  Crossings are located between grid points by cubic Hermite
-interpolation with the model's own derivatives, not by taking the lowest sample
-(which would be off by up to half a step).  DLMO is CBTmin plus an offset or
+hannay2019.  The minimum of x is taken as the crossing of the phase angle
+atan2(−xc, x) through π, which is exactly the minimum of x in darkness and is
+not pinned to light edges (light switched on while x falls makes a kink minimum
+of x).  Crossings are located between grid points by cubic Hermite
+interpolation with the model's own derivatives, not by taking the nearest
+sample (which would be off by up to half a step).  DLMO is CBTmin plus an offset or
 the crossing of its own phase angle.
 
 Times are hours since the result's epoch; a *clock phase* is an hour of the day
@@ -35,27 +38,6 @@ def phase_difference(a_h: np.ndarray | float, b_h: np.ndarray | float) -> np.nda
     return np.where(d > HOURS_PER_DAY / 2.0, d - HOURS_PER_DAY, d)
 
 
-def _hermite_minimum(t0, t1, x0, x1, d0, d1):
-    """Minimum of the cubic Hermite interpolant on [t0, t1]; vectorised."""
-    h = t1 - t0
-    m0, m1 = d0 * h, d1 * h
-    # p(s) = h00 x0 + h10 m0 + h01 x1 + h11 m1; p'(s) = a s² + b s + c
-    a = 6.0 * x0 + 3.0 * m0 - 6.0 * x1 + 3.0 * m1
-    b = -6.0 * x0 - 4.0 * m0 + 6.0 * x1 - 2.0 * m1
-    c = m0
-    s = np.full(np.shape(a), 0.5)
-    quadratic = np.abs(a) > 1e-14
-    disc = np.maximum(b * b - 4.0 * a * c, 0.0)
-    root = np.sqrt(disc)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        r1 = np.where(quadratic, (-b + root) / (2.0 * a), -c / np.where(b != 0, b, 1.0))
-        r2 = np.where(quadratic, (-b - root) / (2.0 * a), r1)
-    # The minimum is where p' rises through zero: p'' = 2as + b > 0.
-    pick = np.where(2.0 * a * r1 + b > 0, r1, r2)
-    s = np.where(np.isfinite(pick), np.clip(pick, 0.0, 1.0), s)
-    return t0 + s * h
-
-
 def _hermite_crossing(t0, t1, y0, y1, d0, d1, target, iterations=6):
     """Time where the cubic Hermite interpolant crosses ``target`` on [t0, t1] (monotone); vectorised."""
     h = t1 - t0
@@ -76,40 +58,42 @@ def _per_column(times: np.ndarray, columns: np.ndarray, size: int) -> list[np.nd
     return [times[cuts[j]:cuts[j + 1]] for j in range(size)]
 
 
-def x_minima(result: SimulationResult) -> list[np.ndarray]:
-    """Times [h] of the minimum of the first state variable in each cycle, one array per schedule.
+def dark_x_minima(result: SimulationResult) -> list[np.ndarray]:
+    """Times [h] where x would have its minimum with no light, one array per schedule.
 
-    Light switched on while x is falling can make x turn up for a while and fall
-    again, leaving two local minima in one cycle; a cycle (one turn of the phase
-    angle, counted from the maxima of x) keeps only its lowest minimum, and only
-    minima on the lower half of the cycle count.
+    The upward zero crossings, with x < 0, of dx/dt evaluated with the drive B set to 0.
+    Whenever no light reaches the eye (as during sleep) this is the minimum of x itself;
+    under light it stays a smooth function of the state, whereas the raw minimum of x can
+    be pinned to a light edge (light switched on while x falls makes a kink minimum).
+    Located between grid points by cubic interpolation through four samples.
     """
+    family, c = result.model.family, result.model.coefficients
+    rows_total = result.states.shape[0]
+    flat = np.moveaxis(result.states[:, :2, :], 1, 0).reshape(2, -1)
+    from planner.integrate import _tile_coefficients
+    dark = family.derivatives(flat, np.zeros(flat.shape[1]), _tile_coefficients(c, rows_total))[0]
+    dark = dark.reshape(rows_total, -1)
     x = result.states[:, 0, :]
-    dx = result.derivatives()[:, 0, :]
-    rising = (dx[:-1] < 0) & (dx[1:] >= 0) & np.isfinite(dx[:-1]) & np.isfinite(dx[1:])
+    rising = (dark[:-1] < 0) & (dark[1:] >= 0) & (x[:-1] < 0) & np.isfinite(dark[:-1]) & np.isfinite(dark[1:])
     rows, cols = np.nonzero(rising)
     t = result.times
-    when = _hermite_minimum(t[rows], t[rows + 1], x[rows, cols], x[rows + 1, cols], dx[rows, cols], dx[rows + 1, cols])
-    value = _hermite_value(t[rows], t[rows + 1], x[rows, cols], x[rows + 1, cols], dx[rows, cols], dx[rows + 1, cols], when)
-    angle = np.unwrap(result.model.family.phase_angle(np.moveaxis(result.states[:, :2, :], 1, 0)), axis=0)
-    at = angle[rows, cols]
-    # A minimum of x lies on the lower half of the cycle (angle near π); a light edge can put
-    # a kink minimum near the maximum of x, which is no CBTmin.
-    lower_half = np.abs(np.mod(at, TWO_PI) - math.pi) < math.pi / 2
-    rows, cols, when, value, at = rows[lower_half], cols[lower_half], when[lower_half], value[lower_half], at[lower_half]
-    cycle = np.floor(at / TWO_PI)
-    order = np.lexsort((value, cycle, cols))
-    keep = np.ones(order.size, bool)
-    keep[1:] = (cols[order][1:] != cols[order][:-1]) | (cycle[order][1:] != cycle[order][:-1])
-    chosen = order[keep]
-    return _per_column(when[chosen], cols[chosen], result.size)
-
-
-def _hermite_value(t0, t1, y0, y1, d0, d1, when):
-    h = t1 - t0
-    s = np.where(h > 0, (when - t0) / np.where(h > 0, h, 1.0), 0.0)
-    s2, s3 = s * s, s * s * s
-    return ((2 * s3 - 3 * s2 + 1) * y0 + (s3 - 2 * s2 + s) * d0 * h + (-2 * s3 + 3 * s2) * y1 + (s3 - s2) * d1 * h)
+    # Cubic through two samples on each side of the sign change (shifted inward at the ends).
+    first = np.clip(rows - 1, 0, rows_total - 4)
+    nodes = first[None, :] + np.arange(4)[:, None]
+    tn = t[nodes]
+    gn = dark[nodes, cols[None, :]]
+    when = t[rows] - dark[rows, cols] * (t[rows + 1] - t[rows]) / (dark[rows + 1, cols] - dark[rows, cols])
+    for _ in range(4):  # Newton on the Lagrange cubic, started from the linear root
+        value = np.zeros_like(when)
+        slope = np.zeros_like(when)
+        for a in range(4):
+            others = [b for b in range(4) if b != a]
+            denominator = np.prod([tn[a] - tn[b] for b in others], axis=0)
+            factors = [when - tn[b] for b in others]
+            value += gn[a] * factors[0] * factors[1] * factors[2] / denominator
+            slope += gn[a] * (factors[1] * factors[2] + factors[0] * factors[2] + factors[0] * factors[1]) / denominator
+        when = np.clip(when - value / np.where(np.abs(slope) > 1e-12, slope, 1e-12), t[rows], t[rows + 1])
+    return _per_column(when, cols, result.size)
 
 
 def angle_crossings(result: SimulationResult, angle_rad: float) -> list[np.ndarray]:
@@ -140,7 +124,7 @@ def _angle_rate(result: SimulationResult, oscillator: np.ndarray) -> np.ndarray:
 
 def _apply_rule(result: SimulationResult, rule: MarkerRule, cbtmin: list[np.ndarray] | None) -> list[np.ndarray]:
     if rule.rule == "x_minimum":
-        return [t + rule.offset_h for t in x_minima(result)]
+        return [t + rule.offset_h for t in dark_x_minima(result)]
     if rule.rule == "phase_angle":
         return [t + rule.offset_h for t in angle_crossings(result, rule.angle_rad)]
     base = cbtmin if cbtmin is not None else cbtmin_times(result)

@@ -73,8 +73,9 @@ def reference_solution(model: ModelSpec, schedule: LightSchedule, initial_state:
             return np.array([d[0], d[1], dn])
 
         if rule.rule == "x_minimum":
-            def event(t, y, rhs=rhs):
-                return rhs(t, y)[0]
+            # The planner's CBTmin for x: dx/dt with no light rising through 0 with x < 0.
+            def event(_t, y):
+                return family.derivatives(y[:2].reshape(2, 1), np.zeros(1), c)[0, 0] if y[0] < 0 else 1.0
             event.direction = 1.0
         else:
             def event(_t, y, angle=rule.angle_rad):
@@ -88,7 +89,7 @@ def reference_solution(model: ModelSpec, schedule: LightSchedule, initial_state:
             if rule.rule == "phase_angle":
                 # sin((ψ − θ)/2) vanishes at ψ = θ + 2πm for every integer m; keep rising ψ only.
                 minima.append(float(t_event))
-            elif a < t_event < b:
+            elif a < t_event < b and y_event[0] < 0:
                 minima.append(float(t_event))
         state = solution.y[:, -1]
     times = np.unique(np.round(np.asarray(minima), 9)) + rule.offset_h
