@@ -112,6 +112,15 @@ def _take(pl: ProcessLCoefficients, columns: np.ndarray) -> ProcessLCoefficients
     return dataclasses.replace(pl, **{f: pick(getattr(pl, f)) for f in ("alpha0", "decay", "p", "I0", "G")})
 
 
+def _fields(maps: process_l.StepMaps) -> tuple[np.ndarray, ...]:
+    return (maps.n_gain, maps.n_offset, *maps.drive_gain, *maps.drive_offset)
+
+
+def _shared(pl: ProcessLCoefficients) -> bool:
+    """True when every person in the batch has the same Process L parameters."""
+    return all(np.ndim(getattr(pl, name)) == 0 for name in ("alpha0", "decay", "p", "I0", "G"))
+
+
 def _check_batch_parameters(model: ModelSpec, size: int) -> None:
     for name, value in model.values.items():
         shape = np.shape(value)
@@ -153,14 +162,29 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
     split_lux = light.split_lux[order]
     derivatives = family.derivatives
     failure = None
+    nominal = float(lengths.max()) if steps else 0.0
+    per_level = None
+    if light.level_index is not None and _shared(pl) and steps:
+        levels = light.levels
+        per_level = np.stack([np.asarray(f) for f in _fields(process_l.step_maps([np.full(levels.shape, nominal)],
+                                                                                  [levels], pl))], axis=1)
     for chunk_start in range(0, steps, CHUNK_STEPS):
         chunk_end = min(chunk_start + CHUNK_STEPS, steps)
         chunk_lux = light.lux[chunk_start:chunk_end]
         chunk_h = lengths[chunk_start:chunk_end, None]
-        maps = process_l.step_maps([np.broadcast_to(chunk_h, chunk_lux.shape)], [chunk_lux], pl)
-        n_gain, n_offset = maps.n_gain.copy(), maps.n_offset.copy()
-        g1, g2, g3 = (g.copy() for g in maps.drive_gain)
-        o1, o2, o3 = (o.copy() for o in maps.drive_offset)
+        if per_level is not None:
+            # Shared Process L: the maps of a full step depend only on the lux level.
+            block = per_level[light.level_index[chunk_start:chunk_end]]   # one gather: (S, N, 8)
+            n_gain, n_offset, g1, g2, g3, o1, o2, o3 = (block[..., f] for f in range(8))
+            short = np.nonzero(chunk_h[:, 0] != nominal)[0]
+            if short.size:
+                exact = process_l.step_maps([np.broadcast_to(chunk_h[short], chunk_lux[short].shape)],
+                                            [chunk_lux[short]], pl)
+                for target, source in zip((n_gain, n_offset, g1, g2, g3, o1, o2, o3), _fields(exact)):
+                    target[short] = source
+        else:
+            maps = process_l.step_maps([np.broadcast_to(chunk_h, chunk_lux.shape)], [chunk_lux], pl)
+            n_gain, n_offset, g1, g2, g3, o1, o2, o3 = (f.copy() for f in _fields(maps))
         lo, hi = np.searchsorted(split_step, [chunk_start, chunk_end])
         if hi > lo:
             rows = split_step[lo:hi] - chunk_start

@@ -218,6 +218,10 @@ class GridLight:
         The (step, schedule) pairs that a light edge splits.
     split_lengths, split_lux : ndarray, shape (E, P)
         Their pieces, in time order [h] and [lux]; unused pieces have length 0.
+    levels : ndarray, shape (U,), optional
+        The distinct lux values of ``lux`` [lux] (a schedule batch has few).
+    level_index : ndarray of int, shape (K, N), optional
+        ``lux == levels[level_index]``; lets per-level work be done once.
     """
 
     epoch: datetime
@@ -227,6 +231,8 @@ class GridLight:
     split_column: np.ndarray
     split_lengths: np.ndarray
     split_lux: np.ndarray
+    levels: np.ndarray | None = None
+    level_index: np.ndarray | None = None
 
     @property
     def size(self) -> int:
@@ -237,9 +243,11 @@ class GridLight:
         if self.size != 1:
             raise ScheduleError(f"only a single schedule can be repeated, not {self.size}")
         e = self.split_step.size
+        index = None if self.level_index is None else np.repeat(self.level_index, count, axis=1)
         return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
                          np.tile(self.split_step, count), np.repeat(np.arange(count), e),
-                         np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)))
+                         np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)),
+                         self.levels, index)
 
 
 def step_grid(span_h: float, step_h: float) -> np.ndarray:
@@ -300,7 +308,9 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     below[last_edge] = lefts.size
     below[last_edge - counts + 1] = 0
     points = np.delete(np.diff(below), last_edge[:-1])
-    lux = np.repeat(all_lux, points).reshape(size, lefts.size).T
+    levels, interval_level = np.unique(all_lux, return_inverse=True)
+    level_index = np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T
+    lux = levels[level_index]
 
     interior = (all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H)
     inner, inner_column = all_edges[interior], column_of_edge[interior]
@@ -308,7 +318,8 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     off_grid = np.minimum(np.abs(times[position] - inner), np.abs(times[position - 1] - inner)) > EDGE_TOLERANCE_H
     inner, inner_column = inner[off_grid], inner_column[off_grid]
     if inner.size == 0:
-        return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)))
+        return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)),
+                         levels, level_index)
     step_of_edge = np.searchsorted(times, inner, side="right") - 1
     group_key = inner_column * lefts.size + step_of_edge
     unique_keys, first, per_group = np.unique(group_key, return_index=True, return_counts=True)
@@ -322,4 +333,5 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     bounds[group, rank + 1] = inner
     starts = bounds[:, :-1]
     split_lux = lux_at(np.repeat(split_column[:, None], pieces, axis=1), starts)
-    return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux)
+    return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux,
+                     levels, level_index)
