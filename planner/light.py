@@ -38,8 +38,12 @@ def _require_aware(moment: datetime, what: str) -> datetime:
 
 
 def hours_between(earlier: datetime, later: datetime) -> float:
-    """Real elapsed hours from ``earlier`` to ``later`` (both aware)."""
-    return (later - earlier).total_seconds() / SECONDS_PER_HOUR
+    """Real elapsed hours from ``earlier`` to ``later`` (both aware).
+
+    Both are converted to UTC first: Python subtracts two datetimes that share a
+    tzinfo as wall-clock times, which is wrong across a clock change.
+    """
+    return (later.astimezone(timezone.utc) - earlier.astimezone(timezone.utc)).total_seconds() / SECONDS_PER_HOUR
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,29 @@
+"""The built wheel carries the parameter sets: they load from an installed copy."""
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parent.parent
+
+
+def test_models_load_from_an_installed_wheel(tmp_path):
+    wheels = tmp_path / "wheels"
+    target = tmp_path / "site"
+    subprocess.run([sys.executable, "-m", "pip", "wheel", "--quiet", "--no-deps", "--no-build-isolation",
+                    "-w", str(wheels), str(REPO)], check=True)
+    wheel = next(wheels.glob("phaseplan-*.whl"))
+    subprocess.run([sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", str(target),
+                    str(wheel)], check=True)
+    probe = ("import json, planner; from planner.parameters import available_models, load_model; "
+             "print(json.dumps({'file': planner.__file__, "
+             "'models': {m: load_model(m).file.citation.doi for m in available_models()}}))")
+    out = subprocess.run([sys.executable, "-c", probe], cwd=target, env={"PYTHONPATH": str(target), "PATH": ""},
+                         capture_output=True, text=True, check=True)
+    found = json.loads(out.stdout)
+    assert Path(found["file"]).resolve().is_relative_to(target.resolve())
+    # the three published parameter sets and their DOIs (journal records)
+    assert found["models"] == {"forger1999": "10.1177/074873099129000867",
+                               "hannay2019": "10.1177/0748730419878298",
+                               "jewett1999": "10.1177/074873049901400608"}
