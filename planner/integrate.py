@@ -160,14 +160,40 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
     split_column = light.split_column[order]
     split_lengths = light.split_lengths[order]
     split_lux = light.split_lux[order]
-    derivatives = family.derivatives
-    failure = None
     nominal = float(lengths.max()) if steps else 0.0
     per_level = None
     if light.level_index is not None and _shared(pl) and steps:
         levels = light.levels
         per_level = np.stack([np.asarray(f) for f in _fields(process_l.step_maps([np.full(levels.shape, nominal)],
                                                                                   [levels], pl))], axis=1)
+    # Overflow is detected below and reported in the result, so numpy's warnings are silenced.
+    with np.errstate(over="ignore", invalid="ignore"):
+        failure = _advance(family, c, pl, light, lengths, states, y, n, per_level, nominal,
+                           split_step, split_column, split_lengths, split_lux)
+    if steps:
+        drives[:steps] = process_l.drive(light.lux, states[:steps, 2], pl)
+        drives[steps] = process_l.drive(light.lux[-1], states[steps, 2], pl)
+    else:
+        drives[0] = 0.0
+    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0)
+    if failure is not None:
+        step, column = failure
+        states[step + 1:] = np.nan
+        drives[step + 1:] = np.nan
+        when = light.epoch + timedelta(hours=float(times[step]))
+        return SimulationResult(False, STATUS_NONFINITE,
+                                f"state of schedule {column} became non-finite in the step starting "
+                                f"{when.isoformat()}; reduce the step or check the parameters",
+                                states=states, drive=drives, **common)
+    return SimulationResult(True, STATUS_SUCCESS, f"integrated {size} schedule(s) over {steps} steps",
+                            states=states, drive=drives, **common)
+
+
+def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, nominal,
+             split_step, split_column, split_lengths, split_lux) -> tuple[int, int] | None:
+    """Run the fixed-step scheme over the grid, filling ``states``; the first non-finite (step, column) or None."""
+    derivatives = family.derivatives
+    steps = lengths.size
     for chunk_start in range(0, steps, CHUNK_STEPS):
         chunk_end = min(chunk_start + CHUNK_STEPS, steps)
         chunk_lux = light.lux[chunk_start:chunk_end]
@@ -212,25 +238,8 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
             states[chunk_start + i + 1, :2] = y
             states[chunk_start + i + 1, 2] = n
         if not (np.all(np.isfinite(y)) and np.all(np.isfinite(n))):
-            failure = _first_nonfinite(states, chunk_start, chunk_end)
-            break
-    if steps:
-        drives[:steps] = process_l.drive(light.lux, states[:steps, 2], pl)
-        drives[steps] = process_l.drive(light.lux[-1], states[steps, 2], pl)
-    else:
-        drives[0] = 0.0
-    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0)
-    if failure is not None:
-        step, column = failure
-        states[step + 1:] = np.nan
-        drives[step + 1:] = np.nan
-        when = light.epoch + timedelta(hours=float(times[step]))
-        return SimulationResult(False, STATUS_NONFINITE,
-                                f"state of schedule {column} became non-finite in the step starting "
-                                f"{when.isoformat()}; reduce the step or check the parameters",
-                                states=states, drive=drives, **common)
-    return SimulationResult(True, STATUS_SUCCESS, f"integrated {size} schedule(s) over {steps} steps",
-                            states=states, drive=drives, **common)
+            return _first_nonfinite(states, chunk_start, chunk_end)
+    return None
 
 
 def _first_nonfinite(states: np.ndarray, chunk_start: int, chunk_end: int) -> tuple[int, int]:
