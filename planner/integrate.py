@@ -32,6 +32,9 @@ MINUTES_PER_HOUR = 60.0
 #: Steps whose Process L maps are built together; bounds memory to CHUNK·N per map.
 CHUNK_STEPS = 256
 
+#: Sub-steps used by :func:`fine_steps` to re-integrate one grid step (a 30-min step in 1-min steps).
+FINE_SUBSTEPS = 30
+
 STATUS_SUCCESS = 0
 STATUS_NONFINITE = 1
 
@@ -60,6 +63,8 @@ class SimulationResult:
         Unmodulated drive B̂ = G·α·(1 − n) just after each grid point.
     step_h : float
         Nominal step [h].
+    light : GridLight
+        The light the batch was integrated with (for re-integrating single steps finely).
     """
 
     success: bool
@@ -71,6 +76,7 @@ class SimulationResult:
     states: np.ndarray
     drive: np.ndarray
     step_h: float
+    light: GridLight | None = dataclasses.field(default=None, repr=False)
 
     @property
     def size(self) -> int:
@@ -102,6 +108,76 @@ def _tile_coefficients(c, rows: int):
         array = np.asarray(value)
         tiled[name] = np.tile(array, rows) if array.ndim == 1 else value
     return type(c)(**tiled)
+
+
+def _take_coefficients(c, columns: np.ndarray):
+    """Oscillator coefficients of some batch columns (per-person arrays are indexed)."""
+    return type(c)(**{name: (np.asarray(v)[columns] if np.ndim(v) == 1 else v) for name, v in vars(c).items()})
+
+
+def fine_steps(result: SimulationResult, rows: np.ndarray, columns: np.ndarray,
+               substeps: int = FINE_SUBSTEPS) -> tuple[np.ndarray, np.ndarray]:
+    """Re-integrate single grid steps with ``substeps`` smaller steps, from the recorded states.
+
+    Used to place markers inside a step where the trajectory bends sharply (bright light while
+    a marker passes), which interpolation between grid points cannot follow.
+
+    Parameters
+    ----------
+    rows, columns : ndarray of int, shape (E,)
+        Step index (the step from ``times[row]`` to ``times[row + 1]``) and schedule of each.
+
+    Returns
+    -------
+    times : ndarray, shape (substeps + 1, E)
+        Fine time points [h since epoch].
+    oscillator : ndarray, shape (substeps + 1, 2, E)
+        Oscillator states at those points.
+    """
+    light = result.light
+    model = result.model
+    family = model.family
+    c = _take_coefficients(model.coefficients, columns)
+    pl = _take(model.process_l, columns)
+    starts = result.times[rows]
+    lengths = result.times[rows + 1] - starts
+    pieces = max(1, light.split_lengths.shape[1]) if light.split_step.size else 1
+    piece_lengths = np.zeros((rows.size, pieces))
+    piece_lux = np.zeros((rows.size, pieces))
+    piece_lengths[:, 0] = lengths
+    piece_lux[:, 0] = light.lux[rows, columns]
+    if light.split_step.size:
+        width = light.size
+        split_keys = light.split_step * width + light.split_column
+        order = np.argsort(split_keys)
+        wanted = rows * width + columns
+        found = np.searchsorted(split_keys[order], wanted)
+        found = np.clip(found, 0, order.size - 1)
+        hit = split_keys[order][found] == wanted
+        piece_lengths[hit] = light.split_lengths[order][found[hit]]
+        piece_lux[hit] = light.split_lux[order][found[hit]]
+    piece_start = np.concatenate([np.zeros((rows.size, 1)), np.cumsum(piece_lengths, axis=1)[:, :-1]], axis=1)
+    piece_end = piece_start + piece_lengths
+    y = result.states[rows, :2, columns].T.copy()
+    n = result.states[rows, 2, columns].copy()
+    h = lengths / substeps
+    times = starts[None, :] + h[None, :] * np.arange(substeps + 1)[:, None]
+    path = np.empty((substeps + 1, 2, rows.size))
+    path[0] = y
+    with np.errstate(over="ignore", invalid="ignore"):
+        for j in range(substeps):
+            lo, hi = (j * h)[:, None], ((j + 1) * h)[:, None]
+            clipped = np.clip(np.minimum(piece_end, hi) - np.maximum(piece_start, lo), 0.0, None)
+            maps = process_l.step_maps(list(clipped.T), list(piece_lux.T), pl)
+            u1, u2, u3 = (g * n + o for g, o in zip(maps.drive_gain, maps.drive_offset))
+            k1 = family.derivatives(y, u1, c)
+            k2 = family.derivatives(y + 0.5 * h * k1, u2, c)
+            k3 = family.derivatives(y + 0.5 * h * k2, u2, c)
+            k4 = family.derivatives(y + h * k3, u3, c)
+            y = y + (h / 6.0) * (k1 + 2.0 * (k2 + k3) + k4)
+            n = maps.n_gain * n + maps.n_offset
+            path[j + 1] = y
+    return times, path
 
 
 def _take(pl: ProcessLCoefficients, columns: np.ndarray) -> ProcessLCoefficients:
@@ -175,7 +251,8 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
         drives[steps] = process_l.drive(light.lux[-1], states[steps, 2], pl)
     else:
         drives[0] = 0.0
-    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0)
+    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0,
+                  light=light)
     if failure is not None:
         step, column = failure
         states[step + 1:] = np.nan

@@ -65,7 +65,10 @@ def dark_x_minima(result: SimulationResult) -> list[np.ndarray]:
     Whenever no light reaches the eye (as during sleep) this is the minimum of x itself;
     under light it stays a smooth function of the state, whereas the raw minimum of x can
     be pinned to a light edge (light switched on while x falls makes a kink minimum).
-    Located between grid points by cubic interpolation through four samples.
+    Located inside its grid step by re-integrating that step in fine sub-steps
+    (:func:`planner.integrate.fine_steps`) and interpolating linearly between them: under
+    bright light the trajectory bends too sharply within a step for interpolation between
+    grid points.
     """
     family, c = result.model.family, result.model.coefficients
     rows_total = result.states.shape[0]
@@ -77,23 +80,28 @@ def dark_x_minima(result: SimulationResult) -> list[np.ndarray]:
     rising = (dark[:-1] < 0) & (dark[1:] >= 0) & (x[:-1] < 0) & np.isfinite(dark[:-1]) & np.isfinite(dark[1:])
     rows, cols = np.nonzero(rising)
     t = result.times
-    # Cubic through two samples on each side of the sign change (shifted inward at the ends).
-    first = np.clip(rows - 1, 0, rows_total - 4)
-    nodes = first[None, :] + np.arange(4)[:, None]
-    tn = t[nodes]
-    gn = dark[nodes, cols[None, :]]
     when = t[rows] - dark[rows, cols] * (t[rows + 1] - t[rows]) / (dark[rows + 1, cols] - dark[rows, cols])
-    for _ in range(4):  # Newton on the Lagrange cubic, started from the linear root
-        value = np.zeros_like(when)
-        slope = np.zeros_like(when)
-        for a in range(4):
-            others = [b for b in range(4) if b != a]
-            denominator = np.prod([tn[a] - tn[b] for b in others], axis=0)
-            factors = [when - tn[b] for b in others]
-            value += gn[a] * factors[0] * factors[1] * factors[2] / denominator
-            slope += gn[a] * (factors[1] * factors[2] + factors[0] * factors[2] + factors[0] * factors[1]) / denominator
-        when = np.clip(when - value / np.where(np.abs(slope) > 1e-12, slope, 1e-12), t[rows], t[rows + 1])
+    if result.light is not None and rows.size:
+        when = _refined_dark_minima(result, rows, cols, when)
     return _per_column(when, cols, result.size)
+
+
+def _refined_dark_minima(result: SimulationResult, rows, cols, fallback):
+    from planner.integrate import _take_coefficients, fine_steps
+    times, path = fine_steps(result, rows, cols)
+    family = result.model.family
+    c = _take_coefficients(result.model.coefficients, cols)
+    points = times.shape[0]
+    dark = np.stack([family.derivatives(path[j], np.zeros(rows.size), c)[0] for j in range(points)])
+    x = path[:, 0, :]
+    rising = (dark[:-1] < 0) & (dark[1:] >= 0) & (x[:-1] < 0)
+    found = rising.any(axis=0)
+    first = np.argmax(rising, axis=0)
+    idx = np.arange(rows.size)
+    g0, g1 = dark[first, idx], dark[first + 1, idx]
+    t0, t1 = times[first, idx], times[first + 1, idx]
+    refined = t0 - g0 * (t1 - t0) / np.where(g1 != g0, g1 - g0, 1.0)
+    return np.where(found, refined, fallback)
 
 
 def angle_crossings(result: SimulationResult, angle_rad: float) -> list[np.ndarray]:

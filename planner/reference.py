@@ -73,9 +73,12 @@ def reference_solution(model: ModelSpec, schedule: LightSchedule, initial_state:
             return np.array([d[0], d[1], dn])
 
         if rule.rule == "x_minimum":
-            # The planner's CBTmin for x: dx/dt with no light rising through 0 with x < 0.
+            # The planner's CBTmin for x: dx/dt with no light rising through 0 with x < 0 (x < 0 is
+            # checked below).  The event function must stay continuous: a jump, such as returning a
+            # constant while x >= 0, is itself reported as a rising crossing when light pushes x
+            # back up through 0.
             def event(_t, y):
-                return family.derivatives(y[:2].reshape(2, 1), np.zeros(1), c)[0, 0] if y[0] < 0 else 1.0
+                return family.derivatives(y[:2].reshape(2, 1), np.zeros(1), c)[0, 0]
             event.direction = 1.0
         else:
             def event(_t, y, angle=rule.angle_rad):

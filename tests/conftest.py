@@ -1,0 +1,57 @@
+"""Shared fixtures: a fixed UTC epoch, the built-in model ids, entrained start states, model-file copies."""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta, timezone
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+import pytest
+
+from planner.parameters import builtin_model_paths, load_model
+
+#: The three built-in parameter sets (models/*.toml).
+MODELS = ("forger1999", "jewett1999", "hannay2019")
+
+#: An arbitrary aware epoch; tests only use times relative to it.
+T0 = datetime(2027, 1, 4, tzinfo=timezone.utc)
+
+
+def at(hours: float) -> datetime:
+    """``T0`` plus ``hours`` of real time."""
+    return T0 + timedelta(hours=hours)
+
+
+@pytest.fixture(scope="session")
+def entrained_states() -> dict[str, np.ndarray]:
+    """State (3,) at a UTC midnight after entrainment to the planner's default day, per model."""
+    from planner.entrainment import entrain
+
+    states = {}
+    for name in MODELS:
+        result = entrain(load_model(name))
+        assert result.success, result.message
+        states[name] = result.state[:, 0].copy()
+    return states
+
+
+@pytest.fixture
+def model_copy(tmp_path: Path) -> Callable[[Callable[[str], str], str], Path]:
+    """Write an edited copy of a built-in model file into ``tmp_path``; return its path.
+
+    Usage: ``model_copy(lambda text: text.replace(...), "forger1999")``.
+    """
+    def write(edit: Callable[[str], str], base: str = "forger1999", name: str = "edited.toml") -> Path:
+        text = builtin_model_paths()[base].read_text(encoding="utf-8")
+        edited = edit(text)
+        assert edited != text, "the edit changed nothing; the test would not test what it says"
+        path = tmp_path / name
+        path.write_text(edited, encoding="utf-8")
+        return path
+
+    return write
+
+
+def pytest_configure(config):
+    config.addinivalue_line("markers", "packaging: builds and installs the wheel offline (no network); runs in CI")
