@@ -18,12 +18,15 @@ import json
 import math
 import sys
 from collections.abc import Sequence
+from datetime import datetime, timedelta
+from enum import Enum
 from typing import Annotated, Any, NoReturn
 
 import typer
 from rich import box
 from rich.console import Console
 from rich.markup import escape
+from rich.panel import Panel
 from rich.table import Table
 from typer.core import TyperGroup
 
@@ -32,6 +35,12 @@ from planner.entrainment import DEFAULT_DAY, DailyPattern, entrain, free_running
 from planner.errors import ComputationError, InputError, PhaseplanError
 from planner.parameters import ModelSpec, available_models, load_model
 from planner.prc import DEFAULT_MEASURE_AFTER_DAYS, phase_response_curve, summarise
+from planner.cautions import cautions_for
+from planner.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
+from planner.tomlfile import InputFileError, Problem
+from planner.trip import Place, Trip, Window, trip_days
+from planner.tripplan import REENTRAINMENT_TOLERANCE_H, TripPlanResult, plan_trip
+from planner.tripview import DayView, clock_change_h, day_views, local, movement, zone_label, zone_name
 
 try:  # recent typer carries its own copy of click; its errors derive from TyperException
     from typer import TyperException as _UsageProblem
@@ -476,6 +485,347 @@ def prc(
                  f"{escape(model.id)}' for the model's validity notes"),
     ])
     _print_citations(console, [model])
+
+
+# --------------------------------------------------------------------------- trips: check, trip, demo
+
+class StrategyChoice(str, Enum):
+    """Values of --strategy."""
+
+    auto = "auto"
+    advance = "advance"
+    delay = "delay"
+
+
+StrategyOption = Annotated[StrategyChoice, typer.Option(
+    "--strategy", "-s", case_sensitive=False,
+    help=("auto plans both directions and recommends one (and, for a short trip back home, compares staying "
+          "on home time); advance or delay plans only that direction."))]
+TripModelOption = Annotated[str | None, typer.Option(
+    "--model", "-m", metavar="ID_OR_PATH",
+    help="Model to use instead of the scenario's own (a built-in id or the path of a model .toml file).")]
+
+#: Cell text of the trip tables for "nothing".
+NONE_TEXT = "—"
+
+
+def _problem_entry(problem: Problem) -> dict[str, Any]:
+    return {"file": problem.source, "line": problem.line, "field": problem.field or None, "message": problem.message}
+
+
+def _scenario_problems(path: str) -> tuple[list[Problem], tuple[Trip, ScenarioInfo] | None]:
+    """Every problem of a scenario file (its model file included); the loaded trip when there are none."""
+    try:
+        loaded = load_trip(path)
+    except InputFileError as exc:
+        return list(exc.problems), None
+    try:
+        load_model(loaded[1].model)
+    except InputFileError as exc:
+        return list(exc.problems), None
+    except InputError as exc:
+        return [Problem(path, "model", _one_line(exc.one_line()))], None
+    return [], loaded
+
+
+def _hhmm(moment: datetime) -> str:
+    return moment.strftime("%H:%M")
+
+
+def _wall(trip: Trip, moment: datetime) -> str:
+    """A moment as local date, time and zone where the traveller is, e.g. "2027-03-10 11:00 WET"."""
+    at = local(trip, moment)
+    return f"{at.strftime('%Y-%m-%d %H:%M')} {zone_label(at).split()[0]}"
+
+
+def _local_iso(trip: Trip, moment: datetime) -> str:
+    return local(trip, moment).isoformat(timespec="minutes")
+
+
+def _strategy_name(strategy: str) -> str:
+    return {"home": "stay on home time", "advance": "advance", "delay": "delay"}.get(strategy, strategy)
+
+
+def _days_text(days: int | None) -> str:
+    if days is None:
+        return "not within the trip"
+    return "on the arrival day" if days == 0 else f"{days} day{'s' if days != 1 else ''} after arrival"
+
+
+def _outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
+    outcome = result.outcome if hasattr(result, "outcome") else result
+    entry = {
+        "aim": outcome.aim,
+        "reentrainment_days": outcome.reentrainment_days,
+        "box_minutes": _number(outcome.box_minutes),
+        "near_low_amplitude": bool(outcome.near_low_amplitude),
+        "min_amplitude_ratio": _number(outcome.min_amplitude_ratio),
+        "direction": outcome.direction,
+        "net_shift_h": _number(outcome.net_shift_h),
+        "max_error_while_away_h": _number(outcome.max_away_error_h),
+        "movement": movement(outcome, alternatives),
+    }
+    if hasattr(result, "outcome"):
+        entry.update({"strategy": result.strategy, "refined": bool(result.refined),
+                      "required_shift_h": _number(result.required_shift_h)})
+    return entry
+
+
+def _window_entry(trip: Trip, window: Window) -> dict[str, Any]:
+    entry = {"start": _local_iso(trip, window.start), "end": _local_iso(trip, window.end),
+             "minutes": _number(window.minutes), "source": window.source}
+    if window.source == "dark glasses":
+        entry["transmission"] = window.lux
+    else:
+        entry["lux"] = window.lux
+    return entry
+
+
+def _day_entry(trip: Trip, view: DayView) -> dict[str, Any]:
+    day = view.day
+    return {
+        "index": day.index,
+        "date": day.local_date.isoformat(),
+        "kind": day.kind,
+        "place": day.place.name,
+        "time_zone": zone_name(day.place),
+        "arrival_place": day.end_place.name if day.end_place != day.place else None,
+        "arrival_time_zone": zone_name(day.end_place) if day.end_place != day.place else None,
+        "start": _local_iso(trip, day.start),
+        "end": _local_iso(trip, day.end),
+        "target_place": view.target_place.name,
+        "sleep": [{"start": _local_iso(trip, a), "end": _local_iso(trip, b)} for a, b in view.sleep],
+        "bright_light": [_window_entry(trip, w) for w in view.bright],
+        "light_avoidance": [_window_entry(trip, w) for w in view.avoid],
+        "cbtmin": _local_iso(trip, view.cbtmin) if view.cbtmin is not None else None,
+        "phase_error_h": _number(view.error_h),
+    }
+
+
+def _trip_document(command: str, trip: Trip, info: ScenarioInfo, model: ModelSpec, plan: TripPlanResult,
+                   views: list[DayView]) -> dict[str, Any]:
+    chosen = plan.recommended
+    return {
+        "command": command,
+        "scenario": {"name": info.name, "description": info.description, "path": info.path,
+                     "round_trip": info.round_trip},
+        "model": {**_model_entry(model), "citation": model.citation},
+        "citations": [_citation_entry(model)],
+        "strategy": plan.strategy,
+        "aim": chosen.outcome.aim,
+        "success": bool(plan.success),
+        "message": plan.message,
+        "reason": plan.reason,
+        "reentrainment_days": chosen.outcome.reentrainment_days if chosen.outcome.aim == "route" else None,
+        "clock_change_h": _number(clock_change_h(trip)),
+        "baseline": _outcome_entry(plan.baseline, plan.alternatives),
+        "alternatives": {name: _outcome_entry(result, plan.alternatives) for name, result in plan.alternatives.items()},
+        "days": [_day_entry(trip, view) for view in views],
+        "simulated": plan.simulated,
+        "cautions": [c.as_dict() for c in cautions_for()],
+        "conventions": {
+            "times": "ISO 8601 on the local clock of where the traveller is (while flying: the departure "
+                     "airport's), with its UTC offset",
+            "reentrainment_days": "days after the arrival day until CBTmin stays within 1 h of the target; "
+                                  "null when not within the time away (for aim 'home': of home time)",
+            "phase_error_h": "CBTmin minus the target place's entrained CBTmin, in (-12, 12]; + means the "
+                             "body clock is later than the target (it must advance)",
+            "net_shift_h": "net movement of CBTmin over the time away; + later (delay), - earlier (advance)",
+        },
+    }
+
+
+def _clock_cell(trip: Trip, moment: datetime, row_zone: str) -> str:
+    at = local(trip, moment)
+    label = zone_label(at)
+    return _hhmm(at) if label == row_zone else f"{_hhmm(at)} {label.split()[0]}"
+
+
+def _span_cell(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
+    start, end = local(trip, a), local(trip, b)
+    if zone_label(start) == zone_label(end) != row_zone:   # both on another clock: name it once
+        return f"{_hhmm(start)}–{_hhmm(end)} {zone_label(end).split()[0]}"
+    return f"{_clock_cell(trip, a, row_zone)}–{_clock_cell(trip, b, row_zone)}"
+
+
+def _window_cell(trip: Trip, window: Window, row_zone: str) -> str:
+    text = f"{_span_cell(trip, window.start, window.end, row_zone)} {window.minutes:.0f} min"
+    if window.source == "dark glasses":
+        return text + f"\ndark glasses {window.lux:.0%}"
+    return text + f"\n{window.source} {_lux(window.lux)} lx"
+
+
+def _error_cell(error: float, target: Place, named: bool) -> str:
+    if not math.isfinite(error):
+        return NONE_TEXT
+    where = f" {escape(target.name)}" if named else ""
+    if abs(error) <= REENTRAINMENT_TOLERANCE_H:
+        return f"[green]{_signed(error, 1)} h ✓[/green]{where}"
+    return f"{abs(error):.1f} h {'late' if error > 0 else 'early'}{where}"
+
+
+def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSpec, plan: TripPlanResult,
+                views: list[DayView]) -> None:
+    change = clock_change_h(trip)
+    way = "east" if change > 0 else "west"
+    console.print(f"[bold]{escape(info.name)}[/bold]")
+    if info.description:
+        console.print(escape(info.description))
+    route = " → ".join([escape(trip.home.name)] + [escape(f.destination.name) for f in trip.flights])
+    facts = [("route", route),
+             ("clock change", f"{abs(change):g} h {way} at the first arrival" if change else "none"),
+             ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(views)} days)"),
+             ("model", escape(model.id))]
+    _print_facts(console, None, facts)
+
+    targets = list(dict.fromkeys(view.target_place.name for view in views))
+    named = len(targets) > 1
+    aim = "the target" if named else escape(targets[0])
+    table = Table(title=f"Day-by-day plan: {escape(_strategy_name(plan.strategy))}", box=box.SIMPLE_HEAD,
+                  title_justify="left", caption_justify="left",
+                  caption=("Times on the local clock of where the traveller is (in flight: the departure "
+                           "airport's); a zone name marks a time on another clock than the row's. CBTmin — : "
+                           "the minimum moved past midnight that day. vs target: CBTmin against the entrained "
+                           f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; ✓ within "
+                           f"{REENTRAINMENT_TOLERANCE_H:g} h."))
+    for header in ("day", "clock", "sleep", "bright light", "avoid light", "CBTmin", f"vs {aim}"):
+        table.add_column(header, no_wrap=header in ("day", "clock", "CBTmin"), overflow="fold")
+    for view in views:
+        day = view.day
+        start = local(trip, day.start)
+        row_zone = zone_label(start)
+        clock = row_zone
+        date_text = start.strftime("%a %d %b")
+        if day.end_place != day.place:
+            end = day.end.astimezone(day.end_place.zone)
+            if zone_label(end) != row_zone:
+                clock = f"{row_zone}\n→ {zone_label(end)}"
+            last = (day.end - timedelta(minutes=1)).astimezone(day.end_place.zone).strftime("%a %d %b")
+            date_text += f"\n→ {last}" if last != date_text else ""
+        sleep = "\n".join(_span_cell(trip, a, b, row_zone) for a, b in view.sleep) or NONE_TEXT
+        bright = "\n".join(_window_cell(trip, w, row_zone) for w in view.bright) or NONE_TEXT
+        avoid = "\n".join(_window_cell(trip, w, row_zone) for w in view.avoid) or NONE_TEXT
+        cbtmin = _clock_cell(trip, view.cbtmin, row_zone) if view.cbtmin is not None else NONE_TEXT
+        table.add_row(f"{date_text}\n[dim]{day.kind}[/dim]", escape(clock), sleep, bright, avoid, cbtmin,
+                      _error_cell(view.error_h, view.target_place, named))
+    console.print(table)
+
+    comparison = Table(box=box.SIMPLE_HEAD)
+    for header in ("plan", "re-entrains", "light box", "near low amplitude", "body clock"):
+        comparison.add_column(header, no_wrap=header != "body clock")
+    rows = [(name, result.outcome) for name, result in plan.alternatives.items()] + [("no plan", plan.baseline)]
+    for name, outcome in rows:
+        label = f"[bold]{_strategy_name(name)}[/bold] ✓" if name == plan.strategy else _strategy_name(name)
+        if outcome.aim == "home":
+            settles = f"held within {outcome.max_away_error_h:.1f} h of home time"
+        else:
+            settles = _days_text(outcome.reentrainment_days)
+        comparison.add_row(label, settles, f"{outcome.box_minutes:.0f} min",
+                           "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives)))
+    console.print(Panel(comparison, title="Advance, delay or no plan", title_align="left"))
+    console.print(f"[bold]Recommended:[/bold] {escape(_strategy_name(plan.strategy))} — {escape(plan.reason)}")
+    if plan.success:
+        console.print(f"[bold]Result:[/bold] {escape(plan.message)}")
+    else:
+        console.print(f"[bold yellow]Not reached:[/bold yellow] {escape(plan.message)}. This is the best plan "
+                      "found; consider more preparation days, more light, or a longer stay.")
+    console.print(f"  {plan.simulated:,} light schedules simulated")
+
+    console.print("\n[bold]Cautions[/bold]")
+    for caution in cautions_for():
+        console.print(f"  • [bold]{escape(caution.title)}.[/bold] {escape(caution.text)} "
+                      f"[dim]({escape('; '.join(caution.sources))})[/dim]")
+    _print_citations(console, [model])
+
+
+def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str | None, json_out: bool) -> None:
+    trip, info = load_trip(path)
+    model = load_model(model_name or info.model)
+    wanted = StrategyChoice(strategy).value
+    if json_out:
+        plan = plan_trip(trip, model, wanted)
+    else:
+        console = _stderr()
+        with console.status(f"planning {escape(info.name)} with {escape(model.id)} …"):
+            plan = plan_trip(trip, model, wanted)
+    views = day_views(trip, plan.recommended.outcome)
+    if json_out:
+        _emit_json(_trip_document(command, trip, info, model, plan, views))
+        return
+    _print_trip(console, trip, info, model, plan, views)
+
+
+ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
+
+
+@app.command("check", help=("Check a trip scenario file: every problem is listed with its file, line and field "
+                            "(exit 2 if there is any); otherwise a short summary of the trip."))
+def check(path: ScenarioArgument, json_out: JsonOption = False) -> None:
+    """Validate a trip scenario (help text on the decorator)."""
+    problems, loaded = _scenario_problems(path)
+    if problems:
+        if json_out:
+            _emit_json({"command": "check", "valid": False, "problems": [_problem_entry(p) for p in problems]})
+        for problem in problems:
+            sys.stderr.write(f"{PROGRAM}: error: {_one_line(problem.one_line())}\n")
+        sys.stderr.flush()
+        raise typer.Exit(EXIT_BAD_INPUT)
+    trip, info = loaded
+    flights = [{"from": f.origin.name, "to": f.destination.name,
+                "depart": f.depart.astimezone(f.origin.zone).isoformat(timespec="minutes"),
+                "arrive": f.arrive.astimezone(f.destination.zone).isoformat(timespec="minutes")}
+               for f in trip.flights]
+    days = trip_days(trip)
+    summary = {"name": info.name, "model": info.model, "round_trip": info.round_trip,
+               "clock_change_h": _number(clock_change_h(trip)),
+               "start": _local_iso(trip, trip.start), "end": _local_iso(trip, trip.end), "days": len(days),
+               "preparation_days": trip.preparation_days, "flights": flights, "busy": len(trip.busy)}
+    if json_out:
+        _emit_json({"command": "check", "valid": True, "problems": [], "summary": summary})
+        return
+    console = _stderr()
+    console.print(f"[green]ok[/green] {escape(path)}: [bold]{escape(info.name)}[/bold]")
+    rows = [("flight", f"{escape(f.origin.name)} {_wall(trip, f.depart)} → {escape(f.destination.name)} "
+                       f"{f.arrive.astimezone(f.destination.zone).strftime('%Y-%m-%d %H:%M')} "
+                       f"{zone_label(f.arrive.astimezone(f.destination.zone)).split()[0]}") for f in trip.flights]
+    rows += [("clock change", f"{abs(summary['clock_change_h']):g} h "
+                              f"{'east' if summary['clock_change_h'] > 0 else 'west'} at the first arrival"),
+             ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(days)} days, "
+                         f"{trip.preparation_days} of preparation)"),
+             ("busy periods", str(len(trip.busy))), ("model", escape(info.model))]
+    _print_facts(console, None, rows)
+
+
+@app.command("trip", help=(
+    "Plan light and sleep for a trip across time zones: a day-by-day table on the local clock, the advance, "
+    "delay and no-plan comparison, the recommendation and the cautions."))
+def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoice.auto, model_name: TripModelOption = None,
+                 json_out: JsonOption = False) -> None:
+    """Plan a trip scenario (help text on the decorator)."""
+    _run_trip("trip", path, strategy, model_name, json_out)
+
+
+@app.command("demo", help=(
+    "Plan a built-in demo trip (invented traveller) exactly as 'trip' does; "
+    f"without NAME the {DEFAULT_DEMO} trip. --list names the demos."))
+def demo(
+    name: Annotated[str | None, typer.Argument(metavar="[NAME]", help="Demo trip name (see --list).")] = None,
+    strategy: StrategyOption = StrategyChoice.auto,
+    model_name: TripModelOption = None,
+    list_demos: Annotated[bool, typer.Option("--list", help="List the demo trips and exit.")] = False,
+    json_out: JsonOption = False,
+) -> None:
+    """Run a demo trip (help text on the decorator)."""
+    if list_demos:
+        demos = builtin_scenario_paths()
+        if json_out:
+            _emit_json({"command": "demo", "demos": [{"name": key, "path": str(p)} for key, p in demos.items()]})
+            return
+        console = _stderr()
+        for key, p in demos.items():
+            console.print(f"  [bold]{escape(key)}[/bold]  {escape(str(p))}")
+        return
+    _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out)
 
 
 # --------------------------------------------------------------------------- entry point

@@ -80,36 +80,71 @@ def _decode_error_line(message: str) -> int | None:
     return int(match.group(1)) if match else None
 
 
+_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\[\]]+?)\s*\]\]?\s*(#.*)?$")
+
+
+def _table_headers(lines: list[str]) -> list[tuple[int, tuple[str | int, ...]]]:
+    """Every table header with its line index and its path; an array-of-tables entry
+    ``[[flights]]`` gets its position, so the second reads ``("flights", 1)``."""
+    headers: list[tuple[int, tuple[str | int, ...]]] = []
+    counts: dict[tuple[str | int, ...], int] = {}
+    for number, line in enumerate(lines):
+        match = _HEADER.match(line)
+        if not match:
+            continue
+        names = [part.strip().strip('"').strip("'") for part in match.group(2).split(".")]
+        path: tuple[str | int, ...] = ()
+        for name in names[:-1]:   # a parent that is an array of tables means its latest entry
+            path += (name,)
+            if path in counts:
+                path += (counts[path] - 1,)
+        path += (names[-1],)
+        if match.group(1) == "[[":
+            index = counts.get(path, 0)
+            counts[path] = index + 1
+            path += (index,)
+        headers.append((number, path))
+    return headers
+
+
 def locate_line(text: str, field: tuple[str | int, ...]) -> int | None:
     """Best-effort line number of a dotted field in TOML text.
 
-    Looks for the deepest string key of ``field`` written as ``key =`` after
-    the table header of its parents, falling back to the header itself.
+    Finds the table header that is the longest prefix of ``field`` (``[parameters]``,
+    ``[parameters.tau_x]``, or the n-th ``[[flights]]`` for ``("flights", n, ...)``), then
+    the remaining keys written as ``key =`` inside that table, falling back to the header
+    itself.  Without a matching header the keys are searched from the top of the file.
     """
-    keys = [str(k) for k in field if isinstance(k, str)]
-    if not keys:
+    field = tuple(field)
+    if not any(isinstance(k, str) for k in field):
         return None
     lines = text.splitlines()
-    start = 0
-    # Walk table headers such as [parameters] or [parameters.tau_x] first.
-    for depth in range(len(keys), 0, -1):
-        header = re.compile(r"^\s*\[\[?\s*" + r"\s*\.\s*".join(map(re.escape, keys[:depth])) + r"\s*\]\]?\s*(#.*)?$")
-        for number, line in enumerate(lines):
-            if header.match(line):
-                if depth == len(keys):
-                    return number + 1
-                start = number
-                remaining = keys[depth:]
-                return _find_key(lines, start, remaining) or number + 1
-    return _find_key(lines, 0, keys)
+    headers = _table_headers(lines)
+    best: tuple[int, int] | None = None   # (prefix length, header position in ``headers``)
+    for position, (_, path) in enumerate(headers):
+        if len(path) <= len(field) and tuple(str(k) for k in field[:len(path)]) == tuple(str(k) for k in path):
+            if best is None or len(path) > best[0]:
+                best = (len(path), position)
+    if best is None:
+        first_header = headers[0][0] if headers else len(lines)
+        found = _find_key(lines, 0, [str(k) for k in field if isinstance(k, str)], first_header)
+        return found or _find_key(lines, 0, [str(k) for k in field if isinstance(k, str)], len(lines))
+    depth, position = best
+    number = headers[position][0]
+    stop = headers[position + 1][0] if position + 1 < len(headers) else len(lines)
+    remaining = [str(k) for k in field[depth:] if isinstance(k, str)]
+    if not remaining:
+        return number + 1
+    return _find_key(lines, number, remaining, stop) or number + 1
 
 
-def _find_key(lines: list[str], start: int, keys: list[str]) -> int | None:
+def _find_key(lines: list[str], start: int, keys: list[str], stop: int | None = None) -> int | None:
     """Find each key in turn, each search starting where the previous key was found."""
+    stop = len(lines) if stop is None else stop
     found = None
     for key in keys:
         pattern = re.compile(r"(^|[\s{,])" + re.escape(key) + r"\s*=")
-        for number in range(start, len(lines)):
+        for number in range(start, stop):
             if pattern.search(lines[number]):
                 found = start = number
                 break
@@ -124,7 +159,17 @@ def _describe(error: dict[str, Any]) -> str:
         return "required field is missing"
     if kind == "extra_forbidden":
         return "unknown field (not allowed here; check the spelling)"
-    return str(error.get("msg", "invalid value"))
+    message = str(error.get("msg", "invalid value"))
+    # A validator's own ValueError text is the message; pydantic prefixes it with "Value error, ".
+    message = message.removeprefix("Value error, ")
+    if kind in _BOUND_KINDS and "input" in error:
+        message += f", got {error['input']!r}"
+    return message
+
+
+#: pydantic error kinds of a value outside its bounds, whose message gains the value given.
+_BOUND_KINDS = frozenset({"greater_than", "greater_than_equal", "less_than", "less_than_equal",
+                          "literal_error", "finite_number"})
 
 
 def validate(model: type[ModelT], data: dict[str, Any], text: str, source: str) -> ModelT:

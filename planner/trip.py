@@ -342,7 +342,7 @@ def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
         a = local_noon - timedelta(hours=BASELINE_OUTDOOR_H / 2)
         b = local_noon + timedelta(hours=BASELINE_OUTDOOR_H / 2)
         for start, end in daylight_within(trip, place, a, b):
-            if where_at(trip, start) is place and where_at(trip, end) is place:
+            if where_at(trip, start) == place and where_at(trip, end) == place:
                 layers.append(ambient(start, end, trip.light.daylight_lux, "daylight"))
     return tuple(layers)
 

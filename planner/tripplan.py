@@ -39,10 +39,12 @@ from planner.integrate import simulate
 from planner.light import hours_between
 from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_at, phase_difference, reentrainment
 from planner.parameters import ModelSpec
-from planner.trip import (daylight_within, Plan, Place, Targets, Trip, TripDay, Window, habitual_sleep, plan_schedule,
-                          targets, trip_days, where_at)
+from planner.trip import (WAKE_BEFORE_DEPARTURE_H, daylight_within, night_of, Plan, Place, Targets, Trip, TripDay, Window,
+                          habitual_sleep, plan_schedule, targets, trip_days, where_at)
 
 Strategy = Literal["advance", "delay"]
+#: What a plan aims at: the clock of each day's place on the route, or home time throughout.
+Aim = Literal["route", "home"]
 
 #: Tolerance for "re-entrained": CBTmin within 1 h of the target (the issue's definition; common practice).
 REENTRAINMENT_TOLERANCE_H = 1.0
@@ -59,8 +61,28 @@ WINDOW_LATTICE_H = 0.25
 #: runs over the hours after CBTmin and the delaying side over the hours before it, where a
 #: type 1 PRC has its advance and delay regions (Khalsa et al. 2003, J Physiol 549:945).
 RESPONSE_SIDE_H = 8.0
+#: Shortest prescribed window [min]: shorter ones are dropped (a practicality limit of this planner).
+MIN_WINDOW_MINUTES = 10.0
+#: Step of the search simulations [min].  Candidates are only ranked at this step; the
+#: baseline and every reported plan are simulated again at the model file's validated step.
+#: At 30 min CBTmin stays within a few minutes of the validated step even under bright light
+#: at night (measured here, tests/test_integrator.py), far below the 1-h re-entrainment tolerance.
+SEARCH_STEP_MINUTES = 30.0
 #: Longest prescribed light-avoidance window [h] (a practicality limit of this planner).
 MAX_AVOIDANCE_H = 4.0
+#: A trip back home whose time at the destination is at most this many full days is planned
+#: on home time as well: re-entraining there and back again costs more days than the stay
+#: (common practice for short trips, no single source; the threshold is this planner's choice).
+SHORT_STAY_DAYS = 3
+#: Staying on home time succeeds while CBTmin keeps within this of its home phase [h]
+#: (the re-entrainment tolerance, read the other way round).
+HOME_TIME_TOLERANCE_H = REENTRAINMENT_TOLERANCE_H
+#: Hours after take-off and around landing without sleep when sleeping on a flight [h]
+#: (boarding, meals, landing; a planner's default, common practice).
+IN_FLIGHT_SETTLE_H = 1.0
+#: A day's windows stay within this distance of its anchor (predicted CBTmin), so that the
+#: windows of consecutive days (anchors about 24 h apart) cannot claim the same hours.
+ANCHOR_REACH = timedelta(hours=HOURS_PER_DAY / 2)
 
 
 @dataclass(frozen=True)
@@ -84,6 +106,9 @@ class Outcome:
     direction: Literal["advance", "delay", "none"]
     min_amplitude_ratio: float
     score: float
+    aim: Aim = "route"
+    #: Largest |CBTmin − target| from the arrival day until the return flight (or the end) [h].
+    max_away_error_h: float = math.nan
 
     @property
     def near_low_amplitude(self) -> bool:
@@ -114,6 +139,8 @@ class Evaluator:
     days: list[TripDay] = field(init=False)
     target_clock: dict[str, float] = field(init=False)
     simulated: int = 0
+    #: Step used while searching [min]; None = the model file's validated step.
+    search_step_minutes: float | None = None
 
     def __post_init__(self):
         self.targets_ = targets(self.trip, self.model)
@@ -121,7 +148,8 @@ class Evaluator:
         from planner.entrainment import entrain
         from planner.trip import place_pattern
         self.target_clock = {}
-        for place in {id(target_place(self.trip, d)): target_place(self.trip, d) for d in self.days}.values():
+        places = [self.trip.home] + [target_place(self.trip, d) for d in self.days]
+        for place in {id(p): p for p in places}.values():
             steady = entrain(self.model, place_pattern(place, self.trip.light))
             if not steady.success:
                 raise ComputationError(f"cannot entrain to the day at {place.name}: {steady.message}")
@@ -131,25 +159,38 @@ class Evaluator:
     def arrival_index(self) -> int:
         return next(d.index for d in self.days if d.kind == "travel")
 
-    def evaluate(self, plans: Sequence[Plan]) -> list[Outcome]:
-        """Simulate plans in one batch."""
+    def return_index(self) -> int:
+        """Index of the day the first flight back home departs; the number of days if none does."""
+        for flight in sorted(self.trip.flights, key=lambda f: f.depart):
+            if flight.destination == self.trip.home:
+                return next((d.index for d in self.days if d.start <= flight.depart < d.end), len(self.days))
+        return len(self.days)
+
+    def days_away(self) -> int:
+        """Full days between the arrival day and the day of the return flight (or the trip's end)."""
+        return max(0, self.return_index() - self.arrival_index() - 1)
+
+    def evaluate(self, plans: Sequence[Plan], aim: Aim = "route", *, final: bool = False) -> list[Outcome]:
+        """Simulate plans in one batch: at the search step, or with ``final`` at the model's own step."""
         schedules = [plan_schedule(self.trip, plan) for plan in plans]
-        result = simulate(self.model, schedules, self.targets_.initial_state, start=self.trip.start, end=self.trip.end)
+        step = None if final else self.search_step_minutes
+        result = simulate(self.model, schedules, self.targets_.initial_state, start=self.trip.start, end=self.trip.end,
+                          step_minutes=step)
         if not result.success:
             raise ComputationError(result.message)
         self.simulated += len(plans)
         markers = cbtmin_times(result)
         amplitude = self.model.family.amplitude(np.moveaxis(result.states[:, :2, :], 1, 0))
         ratio = np.nanmin(amplitude, axis=0) / self.reference_amplitude
-        return [self._outcome(plan, markers[j], float(ratio[j])) for j, plan in enumerate(plans)]
+        return [self._outcome(plan, markers[j], float(ratio[j]), aim) for j, plan in enumerate(plans)]
 
-    def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float) -> Outcome:
+    def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float, aim: Aim = "route") -> Outcome:
         epoch = self.trip.start
         day_outcomes = []
         for day in self.days:
             a, b = hours_between(epoch, day.start), hours_between(epoch, day.end)
             inside = marker_h[(marker_h >= a) & (marker_h < b)]
-            place = target_place(self.trip, day)
+            place = self.trip.home if aim == "home" else target_place(self.trip, day)
             if inside.size:
                 moment = epoch + timedelta(hours=float(inside[-1]))
                 local = moment.astimezone(place.zone)
@@ -158,16 +199,20 @@ class Evaluator:
             else:
                 moment, error = None, math.nan
             day_outcomes.append(DayOutcome(day, place, moment, error))
-        arrival = self.arrival_index()
-        stay = [o.error_h for o in day_outcomes[arrival:]]
+        # Re-entrainment, net shift and direction describe the time away: from the arrival day
+        # until the day of the flight back home (the whole rest of a one-way trip).
+        arrival, back = self.arrival_index(), self.return_index()
+        stay = [o.error_h for o in day_outcomes[arrival:back]]
         settled = reentrainment(np.asarray(stay), 0.0, REENTRAINMENT_TOLERANCE_H)
-        net = _net_shift_h([o.cbtmin for o in day_outcomes])
+        net = _net_shift_h([o.cbtmin for o in day_outcomes[:back]])
         direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
         days_needed = settled.day if settled.day is not None else len(stay) + 5
         residual = float(np.nanmean(np.abs(stay))) if np.any(np.isfinite(stay)) else 12.0
         score = (days_needed + 0.05 * residual + BOX_MINUTE_PENALTY_DAYS * plan.box_minutes
                  + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(self.trip, plan))
-        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score)
+        finite = [abs(e) for e in stay if math.isfinite(e)]
+        largest = max(finite) if finite else math.nan
+        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
 
 
 
@@ -247,7 +292,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
             return None
         sunny = []
         for s, e in segments:
-            if where_at(trip, e) is not place:
+            if where_at(trip, e) != place:
                 continue
             sunny += daylight_within(trip, place, s, e)
         segments = sunny
@@ -260,9 +305,9 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     if best is None:
         return None
     s, e = best
-    if hours_between(s, e) * 60.0 < 10.0:
-        return None
     e = min(e, s + timedelta(minutes=cap))
+    if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
+        return None
     return Window(s, e, lux, source)
 
 
@@ -290,7 +335,7 @@ class TripPlanner:
     def __init__(self, trip: Trip, model: ModelSpec):
         self.trip = trip
         self.model = model
-        self.evaluator = Evaluator(trip, model)
+        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes))
         self.days = self.evaluator.days
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
@@ -304,35 +349,49 @@ class TripPlanner:
         sleep = habitual_sleep(self.trip, shifts)
         forbidden = _forbidden(self.trip, sleep)
         bright, avoid = [], []
-        box_used: dict[int, float] = {}
+        used: dict[tuple[int, str], float] = {}   # prescribed minutes per (trip day, source)
+        caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None:
                 continue
+            # A day's windows sit on either side of its CBTmin, so they may fall on the evening
+            # before the day (delaying light before a CBTmin just after midnight): they are
+            # bounded by the anchor's own half-day, not by the calendar day.
+            lo = max(anchor - ANCHOR_REACH, self.trip.start)
+            hi = min(anchor + ANCHOR_REACH, self.trip.end)
             if choice.bright_hours > 0:
                 s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
                 e = s + timedelta(hours=choice.bright_hours)
-                window = fit_window(self.trip, max(s, day.start), min(e, day.end), choice.bright_source, forbidden)
-                if window is not None and window.source == "light box":
-                    room = self.trip.light.box_max_minutes - box_used.get(day.index, 0.0)
+                taken = sorted(forbidden + [(w.start, w.end) for w in bright])
+                window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
+                if window is not None:
+                    key = (self._day_index(window.start), window.source)
+                    room = caps[window.source] - used.get(key, 0.0)
                     window = window if window.minutes <= room else (
                         Window(window.start, window.start + timedelta(minutes=room), window.lux, window.source)
-                        if room >= 10 else None)
+                        if room >= MIN_WINDOW_MINUTES else None)
                 if window is not None:
                     bright.append(window)
-                    if window.source == "light box":
-                        box_used[day.index] = box_used.get(day.index, 0.0) + window.minutes
+                    used[key] = used.get(key, 0.0) + window.minutes
             if choice.avoid_hours > 0:
                 s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
                 e = s + timedelta(hours=choice.avoid_hours)
-                taken = forbidden + [(w.start, w.end) for w in bright]
-                window = fit_window(self.trip, max(s, day.start), min(e, day.end), "dark glasses", sorted(taken))
+                taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
+                window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", sorted(taken))
                 if window is not None:
                     avoid.append(window)
         return Plan(tuple(sleep), tuple(bright), tuple(avoid))
 
+    def _day_index(self, moment: datetime) -> int:
+        """Index of the trip day holding ``moment`` (the last day for the trip's end)."""
+        for day in self.days:
+            if day.start <= moment < day.end:
+                return day.index
+        return self.days[-1].index
+
     def baseline(self) -> Outcome:
         """No plan: home habits until departure, then the destination's sleep and ordinary light."""
-        return self.evaluator.evaluate([Plan(tuple(habitual_sleep(self.trip)))])[0]
+        return self.evaluator.evaluate([Plan(tuple(habitual_sleep(self.trip)))], final=True)[0]
 
     def _anchors(self, outcome: Outcome) -> list[datetime | None]:
         anchors = []
@@ -460,11 +519,37 @@ class TripPlanner:
         return refined, outcome
 
 
+def home_time_sleep(trip: Trip) -> list[tuple[datetime, datetime]]:
+    """Sleep kept at home clock hours all trip long, around flights and busy hours.
+
+    Each night is the home habit on the home clock.  Staying on home time means sleeping
+    on a flight that falls in the home night, so a flight only takes out the hours of
+    getting to the airport and taking off (``WAKE_BEFORE_DEPARTURE_H`` before to
+    ``IN_FLIGHT_SETTLE_H`` after departure) and of landing (``IN_FLIGHT_SETTLE_H``
+    around arrival); busy hours are cut out as well, and pieces shorter than an hour dropped.
+    """
+    first = trip.start.astimezone(trip.home.zone).date() - timedelta(days=1)
+    last = trip.end.astimezone(trip.home.zone).date()
+    nights = [night_of(trip.home, first + timedelta(days=k)) for k in range((last - first).days + 1)]
+    settle = timedelta(hours=IN_FLIGHT_SETTLE_H)
+    taken = [(b.start, b.end) for b in trip.busy]
+    for flight in trip.flights:
+        taken.append((flight.depart - timedelta(hours=WAKE_BEFORE_DEPARTURE_H), flight.depart + settle))
+        taken.append((flight.arrive - settle, flight.arrive + settle))
+    kept = []
+    for bed, wake in nights:
+        bed, wake = max(bed, trip.start), min(wake, trip.end)
+        for a, b in _free_segments(bed, wake, sorted(taken)):
+            if b - a >= timedelta(hours=1):
+                kept.append((a, b))
+    return kept
+
+
 @dataclass(frozen=True)
 class StrategyResult:
-    """The best plan found for one strategy."""
+    """The best plan found for one strategy ("home": staying on home time)."""
 
-    strategy: Strategy
+    strategy: Strategy | Literal["home"]
     outcome: Outcome
     greedy_score: float
     refined: bool
@@ -482,9 +567,11 @@ class TripPlanResult:
     message : str
         Plain statement of the result, including a shortfall when the target is not reached.
     strategy : str
-        The recommended strategy.
+        The recommended strategy: "advance", "delay", or "home" (stay on home time; short trips
+        back home with ``strategy="auto"``, see :func:`plan_trip`).
     recommended : StrategyResult
     alternatives : dict of StrategyResult
+        Every strategy evaluated, by name (the recommended one among them).
     baseline : Outcome
     reason : str
         Why the recommended strategy was chosen.
@@ -495,7 +582,7 @@ class TripPlanResult:
 
     success: bool
     message: str
-    strategy: Strategy
+    strategy: Strategy | Literal["home"]
     recommended: StrategyResult
     alternatives: dict
     baseline: Outcome
@@ -510,6 +597,7 @@ def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) ->
     refined_choices, refined_outcome = planner.refine(strategy, choices, anchors, seed=seed)
     better = refined_outcome.score < greedy_outcome.score - 1e-9
     outcome = refined_outcome if better else greedy_outcome
+    outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
     return StrategyResult(strategy, outcome, greedy_outcome.score, better,
                           required_shift_h(planner.trip, planner.evaluator, strategy))
 
@@ -541,9 +629,40 @@ def recommend(results: dict) -> tuple[Strategy, str]:
                            f"{slow.strategy} {slower}")
 
 
+def plan_home_time(planner: TripPlanner) -> StrategyResult:
+    """Stay on home time: home sleep hours kept all trip long (:func:`home_time_sleep`), no
+    prescribed light; scored against the home clock."""
+    outcome = planner.evaluator.evaluate([Plan(tuple(home_time_sleep(planner.trip)))], aim="home", final=True)[0]
+    return StrategyResult("home", outcome, outcome.score, False, 0.0)
+
+
+def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str | None:
+    """Why staying on home time should be offered for this trip; None when it should not.
+
+    Only for a trip back home, and only when the time away is short (at most
+    ``SHORT_STAY_DAYS`` full days) or shorter than re-entrainment would take.
+    """
+    if planner.evaluator.return_index() >= len(planner.days):
+        return None
+    away = planner.evaluator.days_away()
+    days = results[chosen].outcome.reentrainment_days
+    stay = f"{away} full day{'s' if away != 1 else ''} away"
+    if days is None:
+        return f"{stay}, and no plan re-entrains to the destination before the flight home"
+    if away <= SHORT_STAY_DAYS:
+        return f"only {stay} (re-entraining there takes {days} day(s), and then the clock has to come back)"
+    if days > away:
+        return f"{stay}, fewer than the {days} days re-entraining would take"
+    return None
+
+
 def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance", "delay"] = "auto",
               *, seed: int = 0) -> TripPlanResult:
     """Plan a trip: baseline, the requested strategies, and a recommendation.
+
+    With ``strategy="auto"`` on a short trip back home (see :func:`_home_time_wanted`),
+    staying on home time is evaluated too and recommended: the clock is held near home
+    instead of being moved there and back.
 
     An infeasible target is not an error: the best plan found is returned with
     ``success`` False and a message saying how far it falls short.
@@ -553,13 +672,27 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
     wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
     results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}
     chosen, reason = recommend(results)
+    short = _home_time_wanted(planner, results, chosen) if strategy == "auto" else None
+    if short is not None:
+        results["home"] = plan_home_time(planner)
+        chosen, reason = "home", (f"stay on home time: {short}; keeping home sleep hours holds the body clock "
+                                  "near home time instead of moving it there and back")
     best = results[chosen]
     days = best.outcome.reentrainment_days
-    if days is None:
-        last = [o.error_h for o in best.outcome.days if math.isfinite(o.error_h)]
+    if chosen == "home":
+        drift = best.outcome.max_away_error_h
+        success = math.isfinite(drift) and drift <= HOME_TIME_TOLERANCE_H
+        held = f"within {drift:.1f} h" if math.isfinite(drift) else "(no CBTmin predicted)"
+        message = (f"stay on home time: with home sleep hours kept, CBTmin stays {held} of its home phase "
+                   "while away" + ("" if success else
+                                   f", more than the {HOME_TIME_TOLERANCE_H:g} h the plan aims for"))
+    elif days is None:
+        back = planner.evaluator.return_index()
+        last = [o.error_h for o in best.outcome.days[:back] if math.isfinite(o.error_h)]
         residual = abs(last[-1]) if last else math.nan
+        when = "on the last day" if back >= len(planner.days) else "on the last day before the flight home"
         message = (f"the target is not reached within the trip: the best plan ({chosen}) still leaves "
-                   f"CBTmin {residual:.1f} h from the destination's target on the last day")
+                   f"CBTmin {residual:.1f} h from the destination's target {when}")
         success = False
     else:
         message = f"re-entrained {days} day(s) after the arrival day with the {chosen} plan"

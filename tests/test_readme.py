@@ -8,6 +8,7 @@ from pathlib import Path
 import pytest
 
 from planner import free_running_period, read_model_file
+from planner.scenario import load_trip
 
 REPO = Path(__file__).resolve().parent.parent
 README = (REPO / "README.md").read_text(encoding="utf-8")
@@ -52,10 +53,21 @@ def test_parameter_file_example_is_valid_and_free_runs_at_its_tau(tmp_path):
     assert float(free_running_period(model).period_h[0]) == pytest.approx(24.6, abs=0.02)
 
 
+def test_trip_file_example_is_valid(tmp_path):
+    example = next(block for block in code_blocks("toml") if block.startswith('kind = "trip"'))
+    path = tmp_path / "osaka.toml"
+    path.write_text(example, encoding="utf-8")
+    trip, info = load_trip(path)
+    # Lisbon is UTC+1 and Osaka (Asia/Tokyo) UTC+9 in September (IANA tz database)
+    assert trip.flights[0].depart.hour == 9 and trip.flights[0].arrive.hour == 23
+    # 7 full days after the arrival day (the README's rule); Osaka midnight is 15:00 UTC
+    assert (trip.end.day, trip.end.hour) == (28, 15) and len(trip.busy) == 1
+
+
 def test_set_up_is_two_one_line_commands():
     commands = re.findall(r"^```sh\n(.*?)^```", section("Set-up on a fresh machine"), flags=re.S | re.M)
     assert [len(c.strip().splitlines()) for c in commands] == [1, 1]
-    assert "pip install" in commands[0] and "phaseplan prc" in commands[0]
+    assert "pip install" in commands[0] and commands[0].strip().endswith("phaseplan demo")
     assert commands[1].strip() == ".venv/bin/python -m pytest -q"
 
 
