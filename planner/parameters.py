@@ -13,7 +13,6 @@ import math
 import re
 from dataclasses import dataclass, field
 from functools import cached_property
-from importlib import resources
 from pathlib import Path
 from typing import Literal, Mapping
 
@@ -21,6 +20,7 @@ import numpy as np
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from planner import tomlfile
+from planner.shipped import shipped_toml_files
 from planner.errors import UnknownModelError
 from planner.oscillators import FAMILIES, EquationFamily
 from planner.tomlfile import InputFileError, Problem
@@ -274,18 +274,9 @@ def read_model_file(path: str | Path) -> ModelSpec:
     return ModelSpec(model, str(path), values)
 
 
-def _builtin_folder() -> Path:
-    packaged = resources.files("planner") / "models"
-    if packaged.is_dir():
-        return Path(str(packaged))
-    # A source checkout or an editable install keeps the files at the top level.
-    return Path(__file__).resolve().parent.parent / "models"
-
-
 def builtin_model_paths() -> dict[str, Path]:
     """Built-in parameter-set files, keyed by file stem (the model id)."""
-    folder = _builtin_folder()
-    return {path.stem: path for path in sorted(folder.glob("*.toml"))}
+    return shipped_toml_files("models")
 
 
 def available_models() -> list[str]:

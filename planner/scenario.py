@@ -71,13 +71,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from datetime import date, datetime, timedelta
-from importlib import resources
 from pathlib import Path
 from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from planner import tomlfile
+from planner.shipped import shipped_toml_files
 from planner.errors import InputError
 from planner.localtime import local_day_bounds, parse_clock, resolve_local, to_utc, zone
 from planner.parameters import available_models
@@ -455,17 +455,9 @@ def _wall(moment: datetime, place: Place) -> str:
 
 # --------------------------------------------------------------------------- built-in demo trips
 
-def _builtin_folder() -> Path:
-    packaged = resources.files("planner") / "scenarios"
-    if packaged.is_dir():
-        return Path(str(packaged))
-    # A source checkout or an editable install keeps the files at the top level.
-    return Path(__file__).resolve().parent.parent / "scenarios"
-
-
 def builtin_scenario_paths() -> dict[str, Path]:
     """The demo trips shipped with the package, keyed by file stem."""
-    return {p.stem: p for p in sorted(_builtin_folder().glob("*.toml"))}
+    return shipped_toml_files("scenarios")
 
 
 #: The demo ``phaseplan demo`` runs when no name is given.

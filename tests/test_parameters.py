@@ -151,7 +151,8 @@ def test_a_built_in_file_renamed_away_from_its_id_is_refused(tmp_path, monkeypat
     folder.mkdir()
     (folder / "other.toml").write_text(builtin_model_paths()["forger1999"].read_text(encoding="utf-8"),
                                        encoding="utf-8")
-    monkeypatch.setattr("planner.parameters._builtin_folder", lambda: folder)
+    monkeypatch.setattr("planner.parameters.builtin_model_paths",
+                        lambda: {path.stem: path for path in folder.glob("*.toml")})
     with pytest.raises(InputFileError) as info:
         load_model("other")
     assert "id" in info.value.one_line() and "other" in info.value.one_line()
