@@ -279,7 +279,7 @@ def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, 
             # Shared Process L: the maps of a full step depend only on the lux level.
             block = per_level[light.level_index[chunk_start:chunk_end]]   # one gather: (S, N, 8)
             n_gain, n_offset, g1, g2, g3, o1, o2, o3 = (block[..., f] for f in range(8))
-            short = np.nonzero(chunk_h[:, 0] != nominal)[0]
+            short = np.nonzero(np.abs(chunk_h[:, 0] - nominal) > 1e-9)[0]   # only the last step can be shorter
             if short.size:
                 exact = process_l.step_maps([np.broadcast_to(chunk_h[short], chunk_lux[short].shape)],
                                             [chunk_lux[short]], pl)
