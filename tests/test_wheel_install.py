@@ -25,7 +25,8 @@ def test_models_load_from_an_installed_wheel(tmp_path):
                          capture_output=True, text=True, check=True)
     found = json.loads(out.stdout)
     assert Path(found["file"]).resolve().is_relative_to(target.resolve())
-    # the three published parameter sets and their DOIs (journal records)
+    # the three published parameter sets and their DOIs: Forger et al. 1999 and Jewett et al. 1999,
+    # J Biol Rhythms 14(6); Hannay et al. 2019, J Biol Rhythms 34(6) (the journals' DOI records)
     assert found["models"] == {"forger1999": "10.1177/074873099129000867",
                                "hannay2019": "10.1177/0748730419878298",
                                "jewett1999": "10.1177/074873049901400608"}
