@@ -23,12 +23,12 @@ from typing import Sequence
 import numpy as np
 
 from planner import process_l
+from planner.process_l import MINUTES_PER_HOUR
 from planner.errors import InputError
 from planner.light import GridLight, LightSchedule, sample_on_grid
 from planner.oscillators import ProcessLCoefficients
 from planner.parameters import ModelSpec
 
-MINUTES_PER_HOUR = 60.0
 #: Steps whose Process L maps are built together; bounds memory to CHUNK·N per map.
 CHUNK_STEPS = 256
 
@@ -91,23 +91,18 @@ class SimulationResult:
         """Grid points as aware UTC datetimes."""
         return [self.epoch + timedelta(hours=float(t)) for t in self.times]
 
-    def derivatives(self) -> np.ndarray:
-        """Time derivatives [1/h] of the oscillator variables on the grid, shape (K + 1, 2, N)."""
+    def derivatives(self, *, light_off: bool = False) -> np.ndarray:
+        """Time derivatives [1/h] of the oscillator variables on the grid, shape (K + 1, 2, N).
+
+        With ``light_off`` the drive is set to 0: the derivatives the same states would have
+        with no light reaching the eye.
+        """
         family, c = self.model.family, self.model.coefficients
         rows = self.states.shape[0]
         flat = np.moveaxis(self.states[:, :2, :], 1, 0).reshape(2, -1)
-        drive = self.drive.reshape(-1)
-        coefficients = _tile_coefficients(c, rows)
+        drive = np.zeros(flat.shape[1]) if light_off else self.drive.reshape(-1)
+        coefficients = _take_coefficients(c, np.tile(np.arange(self.size), rows))
         return np.moveaxis(family.derivatives(flat, drive, coefficients).reshape(2, rows, -1), 0, 1)
-
-
-def _tile_coefficients(c, rows: int):
-    """Coefficients broadcast to a flattened (rows·N,) axis."""
-    tiled = {}
-    for name, value in vars(c).items():
-        array = np.asarray(value)
-        tiled[name] = np.tile(array, rows) if array.ndim == 1 else value
-    return type(c)(**tiled)
 
 
 def _take_coefficients(c, columns: np.ndarray):

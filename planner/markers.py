@@ -22,7 +22,7 @@ from typing import Sequence
 
 import numpy as np
 
-from planner.integrate import SimulationResult
+from planner.integrate import SimulationResult, _take_coefficients, fine_steps
 from planner.parameters import MarkerRule
 
 HOURS_PER_DAY = 24.0
@@ -70,12 +70,7 @@ def dark_x_minima(result: SimulationResult) -> list[np.ndarray]:
     bright light the trajectory bends too sharply within a step for interpolation between
     grid points.
     """
-    family, c = result.model.family, result.model.coefficients
-    rows_total = result.states.shape[0]
-    flat = np.moveaxis(result.states[:, :2, :], 1, 0).reshape(2, -1)
-    from planner.integrate import _tile_coefficients
-    dark = family.derivatives(flat, np.zeros(flat.shape[1]), _tile_coefficients(c, rows_total))[0]
-    dark = dark.reshape(rows_total, -1)
+    dark = result.derivatives(light_off=True)[:, 0, :]
     x = result.states[:, 0, :]
     rising = (dark[:-1] < 0) & (dark[1:] >= 0) & (x[:-1] < 0) & np.isfinite(dark[:-1]) & np.isfinite(dark[1:])
     rows, cols = np.nonzero(rising)
@@ -87,7 +82,6 @@ def dark_x_minima(result: SimulationResult) -> list[np.ndarray]:
 
 
 def _refined_dark_minima(result: SimulationResult, rows, cols, fallback):
-    from planner.integrate import _take_coefficients, fine_steps
     times, path = fine_steps(result, rows, cols)
     family = result.model.family
     c = _take_coefficients(result.model.coefficients, cols)

@@ -15,10 +15,10 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 from planner import process_l
+from planner.process_l import MINUTES_PER_HOUR
 from planner.light import LightSchedule, hours_between
 from planner.parameters import ModelSpec
 
-MINUTES_PER_HOUR = 60.0
 
 
 @dataclass(frozen=True)

@@ -86,10 +86,6 @@ class Place:
     def utc_offset_h(self, moment: datetime) -> float:
         return moment.astimezone(self.zone).utcoffset().total_seconds() / 3600.0
 
-    @property
-    def pattern_sleep(self) -> tuple[float, float]:
-        return self.bed_h, self.wake_h
-
 
 @dataclass(frozen=True)
 class Flight:
