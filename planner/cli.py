@@ -17,7 +17,7 @@ from __future__ import annotations
 import json
 import math
 import sys
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from datetime import datetime, timedelta
 from enum import Enum
 from typing import Annotated, Any, NoReturn
@@ -36,8 +36,9 @@ from planner.errors import ComputationError, InputError, PhaseplanError
 from planner.parameters import ModelSpec, available_models, load_model
 from planner.prc import DEFAULT_MEASURE_AFTER_DAYS, phase_response_curve, summarise
 from planner.cautions import cautions_for
+from planner.rosterfile import builtin_roster_paths, load_roster
 from planner.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
-from planner.tomlfile import InputFileError, Problem
+from planner.tomlfile import InputFileError, Problem, declared_kind
 from planner.trip import Place, Trip, Window, trip_days
 from planner.tripplan import REENTRAINMENT_TOLERANCE_H, TripPlanResult, plan_trip
 from planner.tripview import DayView, clock_change_h, day_views, local, movement, zone_label, zone_name
@@ -513,10 +514,10 @@ def _problem_entry(problem: Problem) -> dict[str, Any]:
     return {"file": problem.source, "line": problem.line, "field": problem.field or None, "message": problem.message}
 
 
-def _scenario_problems(path: str) -> tuple[list[Problem], tuple[Trip, ScenarioInfo] | None]:
-    """Every problem of a scenario file (its model file included); the loaded trip when there are none."""
+def _scenario_problems(path: str, loader=None) -> tuple[list[Problem], tuple[Any, Any] | None]:
+    """Every problem of a scenario file (its model file included); the loaded scenario when there are none."""
     try:
-        loaded = load_trip(path)
+        loaded = (loader or load_trip)(path)
     except InputFileError as exc:
         return list(exc.problems), None
     try:
@@ -571,8 +572,9 @@ def _outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
     return entry
 
 
-def _window_entry(trip: Trip, window: Window) -> dict[str, Any]:
-    entry = {"start": _local_iso(trip, window.start), "end": _local_iso(trip, window.end),
+def _window_entry(window: Window, iso: Callable[[datetime], str]) -> dict[str, Any]:
+    """A light window for JSON, its times written by ``iso`` (on the local clock of the plan's person)."""
+    entry = {"start": iso(window.start), "end": iso(window.end),
              "minutes": _number(window.minutes), "source": window.source}
     if window.source == "dark glasses":
         entry["transmission"] = window.lux
@@ -595,8 +597,8 @@ def _day_entry(trip: Trip, view: DayView) -> dict[str, Any]:
         "end": _local_iso(trip, day.end),
         "target_place": view.target_place.name,
         "sleep": [{"start": _local_iso(trip, a), "end": _local_iso(trip, b)} for a, b in view.sleep],
-        "bright_light": [_window_entry(trip, w) for w in view.bright],
-        "light_avoidance": [_window_entry(trip, w) for w in view.avoid],
+        "bright_light": [_window_entry(w, lambda m: _local_iso(trip, m)) for w in view.bright],
+        "light_avoidance": [_window_entry(w, lambda m: _local_iso(trip, m)) for w in view.avoid],
         "cbtmin": _local_iso(trip, view.cbtmin) if view.cbtmin is not None else None,
         "phase_error_h": _number(view.error_h),
     }
@@ -756,13 +758,16 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
 
 
 ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
+CheckArgument = Annotated[str, typer.Argument(metavar="FILE", help=(
+    "Scenario file (.toml, kind = \"trip\" or \"roster\")."))]
 
 
-@app.command("check", help=("Check a trip scenario file: every problem is listed with its file, line and field "
-                            "(exit 2 if there is any); otherwise a short summary of the trip."))
-def check(path: ScenarioArgument, json_out: JsonOption = False) -> None:
-    """Validate a trip scenario (help text on the decorator)."""
-    problems, loaded = _scenario_problems(path)
+@app.command("check", help=("Check a trip or roster scenario file: every problem is listed with its file, line and "
+                            "field (exit 2 if there is any); otherwise a short summary."))
+def check(path: CheckArgument, json_out: JsonOption = False) -> None:
+    """Validate a trip or roster scenario (help text on the decorator)."""
+    roster_file = declared_kind(path) == "roster"
+    problems, loaded = _scenario_problems(path, load_roster if roster_file else None)
     if problems:
         if json_out:
             _emit_json({"command": "check", "valid": False, "problems": [_problem_entry(p) for p in problems]})
@@ -770,6 +775,10 @@ def check(path: ScenarioArgument, json_out: JsonOption = False) -> None:
             sys.stderr.write(f"{PROGRAM}: error: {_one_line(problem.one_line())}\n")
         sys.stderr.flush()
         raise typer.Exit(EXIT_BAD_INPUT)
+    if roster_file:
+        from planner.cli_roster import check_roster
+        check_roster(path, json_out)
+        return
     trip, info = loaded
     flights = [{"from": f.origin.name, "to": f.destination.name,
                 "depart": f.depart.astimezone(f.origin.zone).isoformat(timespec="minutes"),
@@ -806,26 +815,41 @@ def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoi
 
 
 @app.command("demo", help=(
-    "Plan a built-in demo trip (invented traveller) exactly as 'trip' does; "
-    f"without NAME the {DEFAULT_DEMO} trip. --list names the demos."))
+    "Plan a built-in demo trip (invented traveller) exactly as 'trip' does, or a demo roster (invented crew) "
+    f"as 'roster' does; without NAME the {DEFAULT_DEMO} trip. --list names the demos."))
 def demo(
-    name: Annotated[str | None, typer.Argument(metavar="[NAME]", help="Demo trip name (see --list).")] = None,
+    name: Annotated[str | None, typer.Argument(metavar="[NAME]", help="Demo trip or roster name (see --list).")] = None,
     strategy: StrategyOption = StrategyChoice.auto,
     model_name: TripModelOption = None,
     list_demos: Annotated[bool, typer.Option("--list", help="List the demo trips and exit.")] = False,
     json_out: JsonOption = False,
 ) -> None:
     """Run a demo trip (help text on the decorator)."""
+    rosters = builtin_roster_paths()
     if list_demos:
-        demos = builtin_scenario_paths()
+        demos = [(key, "trip", p) for key, p in builtin_scenario_paths().items()]
+        demos = sorted(demos + [(key, "roster", p) for key, p in rosters.items()])
         if json_out:
-            _emit_json({"command": "demo", "demos": [{"name": key, "path": str(p)} for key, p in demos.items()]})
+            _emit_json({"command": "demo", "demos": [{"name": key, "kind": kind, "path": str(p)}
+                                                     for key, kind, p in demos]})
             return
         console = _stderr()
-        for key, p in demos.items():
-            console.print(f"  [bold]{escape(key)}[/bold]  {escape(str(p))}")
+        for key, kind, p in demos:
+            console.print(f"  [bold]{escape(key)}[/bold]  {kind}  {escape(str(p))}")
+        return
+    if name in rosters:
+        if StrategyChoice(strategy) != StrategyChoice.auto:
+            raise InputError(f"--strategy {StrategyChoice(strategy).value} is for trips; plan a roster with "
+                             f"'phaseplan roster {rosters[name]} --strategy nights|compromise|day'", field="--strategy")
+        from planner.cli_roster import run_roster
+        run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out)
         return
     _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out)
+
+
+# --------------------------------------------------------------------------- rosters
+
+from planner import cli_roster  # noqa: E402,F401  (registers the roster command on app)
 
 
 # --------------------------------------------------------------------------- entry point

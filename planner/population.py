@@ -97,5 +97,10 @@ def draw_population(model: ModelSpec, size: int, seed: int = 0, *, tau_mean_h: f
 
 def spread(values: np.ndarray, axis: int = -1) -> dict[str, np.ndarray | float]:
     """10th percentile, median and 90th percentile of ``values`` along ``axis``, NaNs ignored."""
-    low, mid, high = np.nanpercentile(np.asarray(values, dtype=float), REPORTED_PERCENTILES, axis=axis)
+    values = np.asarray(values, dtype=float)
+    if not np.any(np.isfinite(values)):   # nothing to summarise: NaN, without numpy's all-NaN warning
+        shape = np.delete(np.shape(values), axis) if values.ndim > 1 else ()
+        nothing = np.full(shape, np.nan) if shape else math.nan
+        return {"p10": nothing, "median": nothing, "p90": nothing}
+    low, mid, high = np.nanpercentile(values, REPORTED_PERCENTILES, axis=axis)
     return {"p10": low, "median": mid, "p90": high}

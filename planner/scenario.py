@@ -263,13 +263,7 @@ def load_trip(path: str | Path) -> tuple[Trip, ScenarioInfo]:
         Listing every problem of the file, each with file, field and line.
     """
     path = Path(path)
-    data, text = tomlfile.read_toml(path)
-    source = str(path)
-    if isinstance(data, dict) and data.get("kind", "trip") != "trip":
-        kind = data.get("kind")
-        raise InputFileError([Problem(source, "kind", f'this is a "{kind}" file; a trip scenario has kind = "trip"',
-                                      tomlfile.locate_line(text, ("kind",)))])
-    spec = tomlfile.validate(TripFile, data, text, source)
+    spec, text = tomlfile.load_scenario(TripFile, path, "trip", default="trip")
     return _build(spec, text, path)
 
 
@@ -456,8 +450,9 @@ def _wall(moment: datetime, place: Place) -> str:
 # --------------------------------------------------------------------------- built-in demo trips
 
 def builtin_scenario_paths() -> dict[str, Path]:
-    """The demo trips shipped with the package, keyed by file stem."""
-    return shipped_toml_files("scenarios")
+    """The demo trips shipped with the package, keyed by file stem (the folder also holds demo rosters)."""
+    return {key: path for key, path in shipped_toml_files("scenarios").items()
+            if tomlfile.declared_kind(path) == "trip"}
 
 
 #: The demo ``phaseplan demo`` runs when no name is given.

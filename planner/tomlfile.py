@@ -75,6 +75,35 @@ def read_toml(path: str | Path) -> tuple[dict[str, Any], str]:
     return data, text
 
 
+def declared_kind(path: str | Path, default: str = "trip") -> str | None:
+    """The ``kind`` a scenario file declares (``default`` when it names none), or None when it is no table.
+
+    Raises
+    ------
+    InputFileError
+        When the file cannot be read or is not TOML.
+    """
+    data, _ = read_toml(path)
+    return data.get("kind", default) if isinstance(data, dict) else None
+
+
+def require_kind(data: Any, text: str, source: str, kind: str, default: str | None = None) -> None:
+    """Refuse a file that declares another ``kind`` than ``kind`` (``default``: the kind of a file naming none).
+
+    Raises
+    ------
+    InputFileError
+        Naming the kind found and the one wanted, with the line.
+    """
+    if not isinstance(data, dict):
+        return
+    found = data.get("kind", default)
+    if found != kind:
+        what = f'this is a "{found}" file' if found else "the file names no kind"
+        raise InputFileError([Problem(source, "kind", f'{what}; a {kind} scenario has kind = "{kind}"',
+                                      locate_line(text, ("kind",)))])
+
+
 def _decode_error_line(message: str) -> int | None:
     match = re.search(r"line (\d+)", message)
     return int(match.group(1)) if match else None
@@ -194,4 +223,11 @@ def validate(model: type[ModelT], data: dict[str, Any], text: str, source: str) 
 def load(model: type[ModelT], path: str | Path) -> tuple[ModelT, str]:
     """Read and validate a TOML file; return the validated object and the file's text."""
     data, text = read_toml(path)
+    return validate(model, data, text, str(path)), text
+
+
+def load_scenario(model: type[ModelT], path: str | Path, kind: str, default: str | None = None) -> tuple[ModelT, str]:
+    """Read a scenario file, refuse one of another ``kind`` (:func:`require_kind`), validate it."""
+    data, text = read_toml(path)
+    require_kind(data, text, str(path), kind, default)
     return validate(model, data, text, str(path)), text

@@ -36,6 +36,7 @@ from scipy.optimize import differential_evolution
 
 from planner.errors import ComputationError
 from planner.integrate import simulate
+from planner.intervals import free_segments
 from planner.light import hours_between
 from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_at, phase_difference, reentrainment
 from planner.parameters import ModelSpec
@@ -256,22 +257,6 @@ def _forbidden(trip: Trip, plan_sleep) -> list[tuple[datetime, datetime]]:
     return sorted(spans)
 
 
-def _free_segments(start: datetime, end: datetime, forbidden) -> list[tuple[datetime, datetime]]:
-    segments = [(start, end)]
-    for a, b in forbidden:
-        nxt = []
-        for s, e in segments:
-            if b <= s or a >= e:
-                nxt.append((s, e))
-                continue
-            if a > s:
-                nxt.append((s, a))
-            if b < e:
-                nxt.append((b, e))
-        segments = nxt
-    return [(s, e) for s, e in segments if e > s]
-
-
 def _longest(segments):
     return max(segments, key=lambda se: se[1] - se[0]) if segments else None
 
@@ -283,7 +268,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     sun up at the place the traveller is.
     """
     light = trip.light
-    segments = _free_segments(start, end, forbidden)
+    segments = free_segments(start, end, forbidden)
     if source == "daylight":
         if not light.daylight:
             return None
@@ -539,7 +524,7 @@ def home_time_sleep(trip: Trip) -> list[tuple[datetime, datetime]]:
     kept = []
     for bed, wake in nights:
         bed, wake = max(bed, trip.start), min(wake, trip.end)
-        for a, b in _free_segments(bed, wake, sorted(taken)):
+        for a, b in free_segments(bed, wake, sorted(taken)):
             if b - a >= timedelta(hours=1):
                 kept.append((a, b))
     return kept

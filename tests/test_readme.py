@@ -47,7 +47,8 @@ def test_light_schedule_example_applies_its_layers(capsys):
 
 def test_parameter_file_example_is_valid_and_free_runs_at_its_tau(tmp_path):
     path = tmp_path / "subject07.toml"
-    path.write_text(code_blocks("toml")[0], encoding="utf-8")
+    example = next(block for block in code_blocks("toml") if block.startswith('id = "subject07"'))
+    path.write_text(example, encoding="utf-8")
     model = read_model_file(path)
     # the model's tau_x is its dark free-running period by construction: Forger et al. 1999, J Biol Rhythms 14:533
     assert float(free_running_period(model).period_h[0]) == pytest.approx(24.6, abs=0.02)
@@ -76,3 +77,15 @@ def test_ci_runs_the_readme_test_command():
     if not ci.exists():
         pytest.skip(".ci/run not written yet")
     assert "python -m pytest -q" in ci.read_text(encoding="utf-8")
+
+
+def test_roster_file_example_is_valid(tmp_path):
+    from planner.rosterfile import load_roster
+    example = next(block for block in code_blocks("toml") if block.startswith('kind = "roster"'))
+    path = tmp_path / "halden.toml"
+    path.write_text(example, encoding="utf-8")
+    roster, info = load_roster(path)
+    # the example's own numbers: 7-day pattern × 4 cycles; 22:00-06:00 has 5 h in 00:00-05:00, a night
+    # shift by the EU night period (Directive 2003/88/EC, from memory)
+    assert roster.drafts[0].days == 28
+    assert roster.shift("N").kind == "night" and roster.shift("D").kind == "day"

@@ -18,9 +18,11 @@ def test_models_load_from_an_installed_wheel(tmp_path):
                     str(wheel)], check=True)
     probe = ("import json, planner; from planner.parameters import available_models, load_model; "
              "from planner.scenario import builtin_scenario_paths, load_trip; "
+             "from planner.rosterfile import builtin_roster_paths, load_roster; "
              "print(json.dumps({'file': planner.__file__, "
              "'models': {m: load_model(m).file.citation.doi for m in available_models()}, "
-             "'scenarios': {k: [str(p), load_trip(p)[1].name] for k, p in builtin_scenario_paths().items()}}))")
+             "'scenarios': {k: [str(p), load_trip(p)[1].name] for k, p in builtin_scenario_paths().items()} | "
+             "{k: [str(p), load_roster(p)[1].name] for k, p in builtin_roster_paths().items()}}))")
     out = subprocess.run([sys.executable, "-c", probe], cwd=target, env={"PYTHONPATH": str(target), "PATH": ""},
                          capture_output=True, text=True, check=True)
     found = json.loads(out.stdout)
@@ -30,7 +32,7 @@ def test_models_load_from_an_installed_wheel(tmp_path):
     assert found["models"] == {"forger1999": "10.1177/074873099129000867",
                                "hannay2019": "10.1177/0748730419878298",
                                "jewett1999": "10.1177/074873049901400608"}
-    # the demo trips of the source tree's scenarios/ folder, loaded from the installed copy
+    # the demo trips and rosters of the source tree's scenarios/ folder, loaded from the installed copy
     shipped = sorted(p.stem for p in (REPO / "scenarios").glob("*.toml"))
     assert shipped and sorted(found["scenarios"]) == shipped
     for path, name in found["scenarios"].values():
