@@ -30,7 +30,7 @@ from matplotlib.lines import Line2D  # noqa: E402
 
 from planner._version import __version__  # noqa: E402
 from planner.errors import InputError  # noqa: E402
-from planner.plandoc import KIND_LABELS, DayRow, PlanDocument, PlanEvent, clock_text, span_text  # noqa: E402
+from planner.plandoc import KIND_LABELS, DayRow, PlanDocument, PlanEvent, clock_text  # noqa: E402
 from planner.tripview import zone_label  # noqa: E402
 
 UTC = timezone.utc
