@@ -501,7 +501,7 @@ IcsOption = Annotated[Path | None, typer.Option(
     "--ics", metavar="FILE",
     help=("Write the plan as an iCalendar file (RFC 5545): one event per sleep, bright-light and "
           "light-avoidance window, with reminders; stable UIDs, so importing again updates the events. "
-          "A plan with worker groups writes one file per group (FILE-group.ics)."))]
+          "A plan with worker groups writes one file per group (FILE-group.ics) unless one group is chosen."))]
 ReportOption = Annotated[Path | None, typer.Option(
     "--report", metavar="FILE.html",
     help="Write a self-contained HTML report (summary, day-by-day plan, chart, comparison, cautions).")]
@@ -574,7 +574,7 @@ def write_plan_files(document: PlanDocument, files: PlanFiles) -> dict[str, Any]
         alarm = None if files.no_alarms else files.alarm_minutes
         groups = calendars_by_group(document, files.group)
         for group, events in groups.items():
-            path = _group_path(files.ics, group if len(groups) > 1 or document.groups else None)
+            path = _group_path(files.ics, group if len(groups) > 1 else None)
             check_target(path, force=files.force)
             previous = path.read_bytes() if path.is_file() else None
             name = document.title if group is None else f"{document.title} — {group}"

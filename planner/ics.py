@@ -4,8 +4,9 @@ One VEVENT per sleep, bright-light, light-avoidance (and, for rosters, work) eve
 
 - **Real time zones.** DTSTART and DTEND carry the TZID of where the person is at the event's start
   (an IANA zone key), with one VTIMEZONE per zone used, covering only the plan's own dates
-  (:meth:`icalendar.Calendar.add_missing_timezones` with the plan's first and last date: some
-  independent readers take only the first value of a long comma-separated RDATE list). A zone
+  (:meth:`icalendar.Calendar.add_missing_timezones` with the plan's first and last date, each onset
+  as its own RDATE line: some independent readers take only the first value of a comma-separated
+  RDATE list). A zone
   without an IANA key is written in UTC (``Z``). Floating (zone-less) times are never written.
   An event across a clock change therefore keeps its real duration in any conforming reader.
 - **Stable UIDs.** ``UID`` is a hash of the plan id and the event's key plus the suffix
@@ -164,7 +165,23 @@ def build_calendar(document: PlanDocument, events: Iterable[PlanEvent] | None = 
         first = min(e.start for e in chosen).date() - timedelta(days=1)
         last = max(e.end for e in chosen).date() + timedelta(days=2)
         calendar.add_missing_timezones(first, last)
+        _one_rdate_per_line(calendar)
     return calendar
+
+
+def _one_rdate_per_line(calendar: icalendar.Calendar) -> None:
+    """Write each VTIMEZONE onset as its own RDATE property (RFC 5545 §3.8.5.2 allows both forms):
+    some readers (vobject, and servers built on it) take only the first value of a comma-separated
+    list, which would lose every later clock change of a plan spanning more than one."""
+    for zone in calendar.walk("VTIMEZONE"):
+        for observance in zone.subcomponents:
+            if "RDATE" not in observance:
+                continue
+            values = observance["RDATE"] if isinstance(observance["RDATE"], list) else [observance["RDATE"]]
+            onsets = [item.dt for value in values for item in value.dts]
+            del observance["RDATE"]
+            for onset in onsets:
+                observance.add("RDATE", onset)
 
 
 def _vevent(document: PlanDocument, event: PlanEvent, alarm_minutes: float | None,

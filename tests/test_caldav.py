@@ -28,7 +28,7 @@ from planner.errors import InputError
 from planner.ics import calendar_bytes, event_uid
 from planner.plandoc import document_from_trip
 
-from test_calendar import night_document, to_second, vobject_events
+from test_calendar import night_document, to_second, vobject_events, vobject_read
 from test_cli import assert_one_line_error
 
 UTC = timezone.utc
@@ -104,7 +104,7 @@ def stored_events(url: str) -> dict[str, vobject.base.Component]:
     assert status == 207, body  # RFC 4918 §13: Multi-Status
     found = {}
     for data in ElementTree.fromstring(body).iter("{urn:ietf:params:xml:ns:caldav}calendar-data"):
-        for event in vobject.readOne(data.text).contents.get("vevent", []):
+        for event in vobject_read(data.text).contents.get("vevent", []):
             found[event.uid.value] = event
     return found
 

@@ -83,9 +83,27 @@ def icalendar_events(data: bytes) -> dict[str, tuple[datetime, datetime, list[ti
     return found
 
 
+def vobject_read(text: str):
+    """The calendar as a fresh vobject reader sees it.
+
+    vobject keeps the first VTIMEZONE it read for each TZID for the rest of the process
+    (``TimezoneComponent.registerTzinfo`` registers only unknown TZIDs), so a second file's own
+    definition of the same zone would be ignored; each file here is read with an empty registry.
+    """
+    registry = vars(vobject.icalendar)["__tzidMap"]
+    saved = dict(registry)
+    for tzid in [key for key in registry if key != "UTC"]:
+        del registry[tzid]
+    try:
+        return vobject.readOne(text)
+    finally:
+        registry.clear()
+        registry.update(saved)
+
+
 def vobject_events(data: bytes) -> dict[str, tuple[datetime, datetime, list[timedelta]]]:
     """UID -> (start UTC, end UTC, alarm triggers) as vobject (an independent parser) reads them."""
-    calendar = vobject.readOne(data.decode("utf-8"))
+    calendar = vobject_read(data.decode("utf-8"))
     found = {}
     for event in calendar.contents.get("vevent", []):
         triggers = [alarm.trigger.value for alarm in event.contents.get("valarm", [])]
@@ -173,6 +191,26 @@ def test_night_across_the_spring_forward_lasts_seven_real_hours():
     assert "DTEND;TZID=Europe/Berlin:20270328T070000" in text
 
 
+def test_nights_across_several_clock_changes_keep_their_real_durations():
+    # Europe/Berlin 2027-2029 (EU rule, last Sunday of March / October at 01:00 UTC; from memory, tzdata
+    # agrees): spring forward 2027-03-28, 2028-03-26 and 2029-03-25 (7-h nights), fall back 2027-10-31
+    # and 2028-10-29 (9-h nights), so the VTIMEZONE needs several onsets per observance
+    nights = {date(2027, 3, 27): 7, date(2027, 10, 30): 9, date(2028, 3, 25): 7, date(2028, 10, 28): 9,
+              date(2028, 6, 10): 8, date(2029, 3, 24): 7}
+    events = []
+    for k, (evening, hours) in enumerate(sorted(nights.items())):
+        bed = datetime.combine(evening, datetime.min.time(), BERLIN).replace(hour=23)
+        wake = datetime.combine(evening + timedelta(days=1), datetime.min.time(), BERLIN).replace(hour=7)
+        events.append(dataclasses.replace(night_document(bed, wake).events[0], key=f"night/{k}"))
+    document = dataclasses.replace(night_document(*[events[0].start, events[0].end]), events=tuple(events))
+    data = calendar_bytes(document)
+    assert not re.search(rb"RDATE:[^\r\n]*,", data)  # one onset per RDATE line
+    for reader in (icalendar_events, vobject_events):
+        durations = sorted((start, end - start) for start, end, _ in reader(data).values())
+        assert [d.total_seconds() / 3600 for _, d in durations] == [nights[e] for e in sorted(nights)], \
+            reader.__name__
+
+
 def test_event_without_an_iana_zone_is_written_in_utc():
     fixed = timezone(timedelta(hours=5, minutes=30))
     bed = datetime(2027, 5, 1, 23, 0, tzinfo=fixed)
@@ -252,13 +290,19 @@ def test_alarm_minutes_and_no_alarms():
     assert triggers == []
 
 
-def test_one_calendar_per_group_or_the_chosen_one():
+def two_group_document() -> PlanDocument:
+    """Two nights, one for each of two invented crews."""
     bed = datetime(2027, 6, 1, 23, 0, tzinfo=BERLIN)
     night = night_document(bed, bed + timedelta(hours=8))
-    other = dataclasses.replace(night.events[0], key="2027-06-02/sleep/1", start=night.events[0].start + timedelta(days=1),
-                                end=night.events[0].end + timedelta(days=1), day=date(2027, 6, 2))
-    document = dataclasses.replace(night, events=(night.events[0], other),
-                                   groups={"crew A": (night.events[0],), "crew B": (other,)})
+    first = night.events[0]
+    other = dataclasses.replace(first, key="2027-06-02/sleep/1", start=first.start + timedelta(days=1),
+                                end=first.end + timedelta(days=1), day=date(2027, 6, 2))
+    return dataclasses.replace(night, events=(first, other), groups={"crew A": (first,), "crew B": (other,)})
+
+
+def test_one_calendar_per_group_or_the_chosen_one():
+    document = two_group_document()
+    other = document.events[1]
     assert set(calendars_by_group(document)) == {"crew A", "crew B"}
     assert calendars_by_group(document, "crew B") == {"crew B": [other]}
     with pytest.raises(InputError, match="crew A, crew B"):
@@ -266,15 +310,13 @@ def test_one_calendar_per_group_or_the_chosen_one():
 
 
 def test_write_plan_files_writes_one_calendar_per_group(tmp_path):
-    bed = datetime(2027, 6, 1, 23, 0, tzinfo=BERLIN)
-    night = night_document(bed, bed + timedelta(hours=8))
-    other = dataclasses.replace(night.events[0], key="2027-06-02/sleep/1", start=night.events[0].start + timedelta(days=1),
-                                end=night.events[0].end + timedelta(days=1), day=date(2027, 6, 2))
-    document = dataclasses.replace(night, events=(night.events[0], other),
-                                   groups={"Crew A": (night.events[0],), "Crew B": (other,)})
+    document = two_group_document()
     written = write_plan_files(document, PlanFiles(ics=tmp_path / "roster.ics"))
     assert sorted(Path(p).name for p in written["ics"]) == ["roster-crew-a.ics", "roster-crew-b.ics"]
-    assert len(vobject_events((tmp_path / "roster-crew-b.ics").read_bytes())) == 1
+    assert set(vobject_events((tmp_path / "roster-crew-b.ics").read_bytes())) == {
+        event_uid(document.plan_id, "2027-06-02/sleep/1")}
+    written = write_plan_files(document, PlanFiles(ics=tmp_path / "crew-b-only.ics", group="crew B"))
+    assert written["ics"] == [str(tmp_path / "crew-b-only.ics")]  # the chosen group: the file as named
 
 
 # --------------------------------------------------------------------------- writing files
