@@ -540,9 +540,9 @@ class PlanFiles:
 
     def check(self) -> None:
         """Refuse unwritable targets before any planning is done (InputError, exit 2)."""
-        from planner.report import chart_format
-
         if self.chart is not None:
+            from planner.report import chart_format   # matplotlib only when a chart is asked for
+
             chart_format(self.chart)
         for path in (self.ics, self.report, self.chart):
             if path is not None:

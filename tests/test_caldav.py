@@ -196,3 +196,12 @@ def test_only_phaseplan_files_are_published(collection):
         publish(b"BEGIN:VCALENDAR\r\nVERSION:2.0\r\nPRODID:x\r\nBEGIN:VEVENT\r\nUID:a@b\r\nDTSTAMP:20270101T000000Z\r\n"
                 b"DTSTART:20270101T000000Z\r\nEND:VEVENT\r\nEND:VCALENDAR\r\n", collection, user=USER,
                 password=PASSWORD)
+
+
+def test_without_a_password_and_no_terminal_the_cli_says_how_to_give_one(tmp_path, tokyo_calendar):
+    path = tmp_path / "plan.ics"
+    path.write_bytes(tokyo_calendar)
+    result = CliRunner().invoke(app, ["publish", str(path), "--url", "http://127.0.0.1:9/x/", "--user", USER],
+                                env={"PHASEPLAN_CALDAV_PASSWORD": None})
+    line = assert_one_line_error(result, 2)
+    assert "PHASEPLAN_CALDAV_PASSWORD" in line
