@@ -206,7 +206,7 @@ th, td { border: 1px solid #b9b9b9; padding: 2px 4px; vertical-align: top; text-
 th { background: #e9ecf2; }
 tr.recommended td { font-weight: bold; background: #fbf3cf; }
 td.num { text-align: right; white-space: nowrap; }
-td.nowrap { white-space: nowrap; }
+td.nowrap, span.clock { white-space: nowrap; }
 .side-by-side { display: grid; grid-template-columns: repeat(auto-fit, minmax(55mm, 1fr)); gap: 8px; }
 .side-by-side section h3 { font-size: 10pt; margin: 4px 0; }
 ul.cautions li { margin-bottom: 4px; }
@@ -232,14 +232,14 @@ def _events_of(document: PlanDocument, row: DayRow, kind: str) -> list[PlanEvent
 def _event_cell(events: list[PlanEvent], row_zone: tzinfo) -> str:
     parts = []
     for event in events:
-        text = event.clock_text(row_zone)
+        detail = ""
         if event.kind in ("bright_light", "light_avoidance"):
             amount = (f"{event.transmission:.0%} glasses" if event.transmission is not None
                       else f"{event.lux:,.0f} lx {event.source}")
-            text += f" ({event.minutes:.0f} min, {amount})"
+            detail = f" ({event.minutes:.0f} min, {amount})"
         elif event.kind == "work":
-            text += f" ({event.source})"
-        parts.append(_e(text))
+            detail = f" ({event.source})"
+        parts.append(f"<span class='clock'>{_e(event.clock_text(row_zone))}</span>{_e(detail)}")
     return "<br>".join(parts) or "—"
 
 
@@ -271,7 +271,7 @@ def _day_table(document: PlanDocument) -> str:
         head.append("CBTmin spread (10th–90th)")
     lines = ["<table class='days'><thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in head) + "</tr></thead><tbody>"]
     for row in document.days:
-        cells = [f"<td class='nowrap'>{_e(f'{row.date:%a %d %b %Y}')}</td>", f"<td>{_e(row.zone_text)}</td>",
+        cells = [f"<td>{_e(f'{row.date:%a %d %b}')}</td>", f"<td>{_e(row.zone_text)}</td>",
                  f"<td>{_e(row.label)}<br><span class='source'>{_e(row.place)}</span></td>"]
         cells += [f"<td>{_event_cell(_events_of(document, row, k), row.zone)}</td>" for k in kinds]
         cbtmin = clock_text(row.cbtmin, row.marker_zone, row.zone) if row.cbtmin is not None else "—"
