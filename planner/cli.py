@@ -40,7 +40,7 @@ from planner.errors import ComputationError, InputError, PhaseplanError
 from planner.parameters import ModelSpec, available_models, load_model
 from planner.prc import DEFAULT_MEASURE_AFTER_DAYS, phase_response_curve, summarise
 from planner.cautions import cautions_for
-from planner.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_by_group
+from planner.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_by_group, previous_events
 from planner.outputs import check_target, write_atomic
 from planner.plandoc import PlanDocument, document_from_trip
 from planner.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
@@ -577,6 +577,10 @@ def write_plan_files(document: PlanDocument, files: PlanFiles) -> dict[str, Any]
             path = _group_path(files.ics, group if len(groups) > 1 else None)
             check_target(path, force=files.force)
             previous = path.read_bytes() if path.is_file() else None
+            try:
+                previous_events(previous)
+            except InputError:   # --force over a file that is no calendar: nothing to carry on
+                previous = None
             name = document.title if group is None else f"{document.title} — {group}"
             data = calendar_bytes(document, events, name=name, alarm_minutes=alarm, previous=previous)
             written["ics"].append(str(write_atomic(path, data, force=files.force)))

@@ -370,6 +370,15 @@ def test_cli_writes_a_calendar_and_refuses_to_overwrite_it(stored_plans, tmp_pat
     assert b"VALARM" not in target.read_bytes()
 
 
+def test_force_over_a_file_that_is_no_calendar_starts_a_new_one(stored_plans, tmp_path):
+    target = tmp_path / "notes.ics"
+    target.write_text("not a calendar", encoding="utf-8")
+    result = run("demo", SHORT_DEMO, "--ics", str(target), "--force")
+    assert result.exit_code == 0, result.stderr
+    calendar = icalendar.Calendar.from_ical(target.read_bytes())
+    assert {int(e.get("SEQUENCE")) for e in calendar.walk("VEVENT")} == {0}  # RFC 5545 §3.8.7.4: new events
+
+
 @pytest.mark.parametrize("option", ["--ics", "--report", "--chart"])
 def test_unwritable_output_path_is_one_line_and_exit_2(option, tmp_path):
     blocker = tmp_path / "a-file"

@@ -29,6 +29,7 @@ from planner.plandoc import DayRow, PlanDocument, PlanEvent, Section, document_f
 from planner.report import STYLE, chart_bytes, chart_format, phase_figure, report_html
 
 from test_calendar import run, stored_plans  # noqa: F401  (the fixture is used by name)
+from test_cli import one_json_document
 
 UTC = timezone.utc
 WEST_DEMO = "frankfurt-vancouver"
@@ -141,8 +142,10 @@ def test_chart_format_comes_from_the_suffix():
 
 def test_cli_writes_report_and_chart_and_refuses_to_overwrite(stored_plans, tmp_path):  # noqa: F811
     report, chart = tmp_path / "plan.html", tmp_path / "plan.png"
-    result = run("demo", "madrid-newyork-short", "--report", str(report), "--chart", str(chart))
+    result = run("demo", "madrid-newyork-short", "--report", str(report), "--chart", str(chart), "--json")
     assert result.exit_code == 0, result.stderr
+    written = one_json_document(result.stdout)["written"]
+    assert written == {"ics": [], "report": str(report), "chart": str(chart)}
     assert report.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
     assert chart.read_bytes().startswith(b"\x89PNG\r\n\x1a\n")  # PNG signature (PNG spec §5.2)
     result = run("demo", "madrid-newyork-short", "--report", str(report))
