@@ -6,7 +6,6 @@ The trip tests use the shipped demo frankfurt-vancouver (invented traveller), pl
 
 from __future__ import annotations
 
-import dataclasses
 import html
 import io
 import json
