@@ -514,6 +514,9 @@ AlarmOption = Annotated[float, typer.Option(
     "--alarm-minutes", metavar="MIN", min=0, max=1440,
     help="Calendar reminder this many minutes before each event.")]
 NoAlarmsOption = Annotated[bool, typer.Option("--no-alarms", help="Calendar events without reminders.")]
+#: For planners whose documents have groups (rosters): write only this group's calendar.
+GroupOption = Annotated[str | None, typer.Option(
+    "--group", metavar="NAME", help="Write the calendar of this worker group (or worker) only, to FILE as named.")]
 
 
 @dataclass(frozen=True)
