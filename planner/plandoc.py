@@ -192,6 +192,26 @@ class Section:
 
 
 @dataclass(frozen=True)
+class Period:
+    """A fixed period the plan works around, e.g. a flight (shown in the chart, not in calendars).
+
+    Attributes
+    ----------
+    label : str
+        What it is, e.g. ``"flight Lisbon → Tokyo"``; the chart's legend uses the first word.
+    start, end : datetime
+        Aware instants (UTC).
+    zone : tzinfo
+        The clock it is drawn on (for a flight: the departure airport's, as the day table shows it).
+    """
+
+    label: str
+    start: datetime
+    end: datetime
+    zone: tzinfo
+
+
+@dataclass(frozen=True)
 class PlanDocument:
     """A finished plan, ready for calendars and reports.
 
@@ -221,6 +241,9 @@ class PlanDocument:
         Extra tables shown side by side (a roster's drafts, the population spread).
     message : str
         The planner's result in one sentence (reached or not, and by how much).
+    context : tuple of Period
+        Fixed periods the plan works around (flights), drawn in the chart but never written to
+        calendars (the person has them already).
     """
 
     plan_id: str
@@ -236,6 +259,7 @@ class PlanDocument:
     groups: Mapping[str, tuple[PlanEvent, ...]] = field(default_factory=dict)
     sections: tuple[Section, ...] = ()
     message: str = ""
+    context: tuple["Period", ...] = ()
 
     def __post_init__(self):
         if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9.-]*", self.plan_id):
@@ -431,4 +455,6 @@ def document_from_trip(trip: Trip, info: ScenarioInfo, plan: TripPlanResult,
         plan_id=trip_plan_id(info), title=info.name, summary=tuple(summary),
         events=tuple(_trip_events(trip, views, plan.strategy)), days=tuple(_trip_days(trip, views)),
         comparison=tuple(comparison), recommended=recommended, cautions=tuple(cautions_for(TRIP_CAUTIONS)),
-        citations=tuple(plan.citations) + (PRC_CITATION,), kind="trip", message=plan.message)
+        citations=tuple(plan.citations) + (PRC_CITATION,), kind="trip", message=plan.message,
+        context=tuple(Period(f"flight {f.origin.name} → {f.destination.name}", f.depart, f.arrive, f.origin.zone)
+                      for f in trip.flights))

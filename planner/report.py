@@ -42,6 +42,8 @@ STYLE = {
     "light_avoidance": {"color": "#a891c9", "edgecolor": "#4b3a66", "hatch": "////", "height": 0.5},
     "work": {"color": "#7fb8ad", "edgecolor": "#2f5c54", "hatch": "...", "height": 0.72},
 }
+#: Fixed periods the plan works around (flights): an empty dashed outline, drawn under the events.
+CONTEXT_STYLE = {"color": "#ffffff", "edgecolor": "#333333", "height": 0.86}
 CBTMIN_STYLE = {"marker": "D", "color": "#c2402e", "markeredgecolor": "black", "markersize": 5.5}
 TARGET_STYLE = {"marker": "o", "markerfacecolor": "white", "markeredgecolor": "black", "markersize": 6.5,
                 "markeredgewidth": 1.3}
@@ -61,14 +63,14 @@ def _clock_h(moment: datetime) -> float:
     return moment.hour + moment.minute / 60.0 + moment.second / 3600.0
 
 
-def _pieces(event: PlanEvent) -> list[tuple[date, float, float]]:
-    """The event cut at local midnights of its clock: (local date, start hour, end hour) per piece."""
+def _pieces(start: datetime, end: datetime, zone: tzinfo) -> list[tuple[date, float, float]]:
+    """A period cut at the local midnights of ``zone``: (local date, start hour, end hour) per piece."""
     pieces = []
-    start, end = event.local_start(), event.local_end()
+    start, end = start.astimezone(zone), end.astimezone(zone)
     cursor = start
     while cursor < end:
-        midnight = datetime.combine(cursor.date() + timedelta(days=1), time(0), event.zone)
-        stop = min(end, midnight.astimezone(event.zone))
+        midnight = datetime.combine(cursor.date() + timedelta(days=1), time(0), zone)
+        stop = min(end, midnight.astimezone(zone))
         hours = (stop.astimezone(UTC) - cursor.astimezone(UTC)).total_seconds() / 3600.0
         a = _clock_h(cursor)
         pieces.append((cursor.date(), a, min(24.0, a + hours)))
@@ -107,9 +109,14 @@ def phase_figure(document: PlanDocument):
     height = CHART_EXTRA_IN + ROW_HEIGHT_IN * len(dates)
     figure, axes = plt.subplots(figsize=(CHART_WIDTH_IN, height))
     kinds_drawn = []
+    for period in document.context:
+        for day, a, b in _pieces(period.start, period.end, period.zone):
+            if day in index and b > a:
+                axes.barh(index[day], b - a, left=a, height=CONTEXT_STYLE["height"], color=CONTEXT_STYLE["color"],
+                          edgecolor=CONTEXT_STYLE["edgecolor"], linewidth=0.9, linestyle="--", zorder=1)
     for event in document.events:
         style = STYLE[event.kind]
-        for day, a, b in _pieces(event):
+        for day, a, b in _pieces(event.start, event.end, event.zone):
             if day not in index or b <= a:
                 continue
             y = index[day]
@@ -149,6 +156,9 @@ def phase_figure(document: PlanDocument):
     axes.set_xlabel("local time where the person is", fontsize=8)
     handles = [Patch(facecolor=STYLE[k]["color"], edgecolor=STYLE[k]["edgecolor"], hatch=STYLE[k]["hatch"],
                      label=KIND_LABELS[k]) for k in STYLE if k in kinds_drawn]
+    labels_seen = list(dict.fromkeys(period.label.split()[0] for period in document.context))
+    handles += [Patch(facecolor=CONTEXT_STYLE["color"], edgecolor=CONTEXT_STYLE["edgecolor"], linestyle="--",
+                      label=f"{label} (not in calendars)") for label in labels_seen]
     handles.append(Line2D([], [], linestyle="none", label="predicted CBTmin", **CBTMIN_STYLE))
     handles.append(Line2D([], [], linestyle="none", label="target CBTmin", **TARGET_STYLE))
     if has_band:

@@ -131,6 +131,9 @@ def test_chart_png_and_svg(vancouver):
     svg = ElementTree.fromstring(chart_bytes(vancouver, "svg"))
     assert svg.tag == "{http://www.w3.org/2000/svg}svg"
     assert chart_bytes(vancouver, "svg") == chart_bytes(vancouver, "svg")  # reproducible: no date, fixed ids
+    legend = [text.get_text() for text in phase_figure(vancouver).axes[0].get_legend().get_texts()]
+    # the demo's one flight is drawn for orientation, and said not to be a calendar event
+    assert "flight (not in calendars)" in legend and len(vancouver.context) == 1
 
 
 def test_chart_format_comes_from_the_suffix():
