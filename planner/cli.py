@@ -16,8 +16,12 @@ from __future__ import annotations
 
 import json
 import math
+import os
+import re
 import sys
 from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
 from datetime import datetime, timedelta
 from enum import Enum
 from typing import Annotated, Any, NoReturn
@@ -36,12 +40,16 @@ from planner.errors import ComputationError, InputError, PhaseplanError
 from planner.parameters import ModelSpec, available_models, load_model
 from planner.prc import DEFAULT_MEASURE_AFTER_DAYS, phase_response_curve, summarise
 from planner.cautions import cautions_for
+from planner.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_by_group, previous_events
+from planner.outputs import check_target, write_atomic
+from planner.plandoc import PlanDocument, document_from_trip
 from planner.rosterfile import builtin_roster_paths, load_roster
 from planner.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
 from planner.tomlfile import InputFileError, Problem, declared_kind
 from planner.trip import Place, Trip, Window, trip_days
 from planner.tripplan import REENTRAINMENT_TOLERANCE_H, TripPlanResult, plan_trip
-from planner.tripview import DayView, clock_change_h, day_views, local, movement, zone_label, zone_name
+from planner.tripview import (DayView, clock_change_h, day_views, local, movement, settling, strategy_name, zone_label,
+                              zone_name)
 
 try:  # recent typer carries its own copy of click; its errors derive from TyperException
     from typer import TyperException as _UsageProblem
@@ -488,6 +496,115 @@ def prc(
     _print_citations(console, [model])
 
 
+# --------------------------------------------------------------------------- plan files: calendar, report, chart
+
+IcsOption = Annotated[Path | None, typer.Option(
+    "--ics", metavar="FILE",
+    help=("Write the plan as an iCalendar file (RFC 5545): one event per sleep, bright-light and "
+          "light-avoidance window, with reminders; stable UIDs, so importing again updates the events. "
+          "A plan with worker groups writes one file per group (FILE-group.ics) unless one group is chosen."))]
+ReportOption = Annotated[Path | None, typer.Option(
+    "--report", metavar="FILE.html",
+    help="Write a self-contained HTML report (summary, day-by-day plan, chart, comparison, cautions).")]
+ChartOption = Annotated[Path | None, typer.Option(
+    "--chart", metavar="FILE.png|svg", help="Write the phase chart alone (PNG or SVG, by the file's suffix).")]
+ForceOption = Annotated[bool, typer.Option(
+    "--force", help="Replace existing --ics/--report/--chart files (an existing calendar's SEQUENCE numbers "
+                    "are carried on).")]
+AlarmOption = Annotated[float, typer.Option(
+    "--alarm-minutes", metavar="MIN", min=0, max=1440,
+    help="Calendar reminder this many minutes before each event.")]
+NoAlarmsOption = Annotated[bool, typer.Option("--no-alarms", help="Calendar events without reminders.")]
+#: For planners whose documents have groups (rosters): write only this group's calendar.
+GroupOption = Annotated[str | None, typer.Option(
+    "--group", metavar="NAME", help="Write the calendar of this worker group (or worker) only, to FILE as named.")]
+
+
+@dataclass(frozen=True)
+class PlanFiles:
+    """The plan files a command was asked to write (the values of the options above).
+
+    Attributes
+    ----------
+    ics, report, chart : Path or None
+    force : bool
+    alarm_minutes : float  [min]
+    no_alarms : bool
+    group : str or None
+        A roster's worker group (or chosen worker) whose calendar alone is written.
+    """
+
+    ics: Path | None = None
+    report: Path | None = None
+    chart: Path | None = None
+    force: bool = False
+    alarm_minutes: float = DEFAULT_ALARM_MINUTES
+    no_alarms: bool = False
+    group: str | None = None
+
+    def check(self) -> None:
+        """Refuse unwritable targets before any planning is done (InputError, exit 2)."""
+        if self.chart is not None:
+            from planner.report import chart_format   # matplotlib only when a chart is asked for
+
+            chart_format(self.chart)
+        for path in (self.ics, self.report, self.chart):
+            if path is not None:
+                check_target(path, force=self.force)
+
+
+def _group_path(path: Path, group: str | None) -> Path:
+    if group is None:
+        return path
+    slug = re.sub(r"[^A-Za-z0-9]+", "-", group).strip("-").lower() or "group"
+    return path.with_name(f"{path.stem}-{slug}{path.suffix or '.ics'}")
+
+
+def write_plan_files(document: PlanDocument, files: PlanFiles) -> dict[str, Any]:
+    """Write the calendar(s), report and chart of a plan document as ``files`` asks.
+
+    Any planner's command calls this with its :class:`~planner.plandoc.PlanDocument`
+    (trips here, rosters with their worker groups). Each file is refused when it exists and
+    ``files.force`` is not set, and written atomically. When an existing calendar is replaced, its
+    events' SEQUENCE numbers are carried on (:func:`planner.ics.build_calendar`).
+
+    Returns
+    -------
+    dict
+        ``{"ics": [paths], "report": path or None, "chart": path or None}`` for ``--json``.
+    """
+    written: dict[str, Any] = {"ics": [], "report": None, "chart": None}
+    if files.ics is not None:
+        alarm = None if files.no_alarms else files.alarm_minutes
+        groups = calendars_by_group(document, files.group)
+        for group, events in groups.items():
+            path = _group_path(files.ics, group if len(groups) > 1 else None)
+            check_target(path, force=files.force)
+            previous = path.read_bytes() if path.is_file() else None
+            try:
+                previous_events(previous)
+            except InputError:   # --force over a file that is no calendar: nothing to carry on
+                previous = None
+            name = document.title if group is None else f"{document.title} — {group}"
+            data = calendar_bytes(document, events, name=name, alarm_minutes=alarm, previous=previous)
+            written["ics"].append(str(write_atomic(path, data, force=files.force)))
+    if files.report is not None or files.chart is not None:
+        from planner.report import chart_bytes, chart_format, report_html   # matplotlib only when asked
+
+        if files.report is not None:
+            written["report"] = str(write_atomic(files.report, report_html(document), force=files.force))
+        if files.chart is not None:
+            data = chart_bytes(document, chart_format(files.chart))
+            written["chart"] = str(write_atomic(files.chart, data, force=files.force))
+    return written
+
+
+def _print_written(console: Console, written: dict[str, Any]) -> None:
+    for label, value in (("calendar", written["ics"]), ("report", written["report"]), ("chart", written["chart"])):
+        for path in ([value] if isinstance(value, str) else value or []):
+            console.print(f"  wrote {label}: {escape(path)}")
+
+
 # --------------------------------------------------------------------------- trips: check, trip, demo
 
 class StrategyChoice(str, Enum):
@@ -541,16 +658,6 @@ def _wall(trip: Trip, moment: datetime) -> str:
 
 def _local_iso(trip: Trip, moment: datetime) -> str:
     return local(trip, moment).isoformat(timespec="minutes")
-
-
-def _strategy_name(strategy: str) -> str:
-    return {"home": "stay on home time", "advance": "advance", "delay": "delay"}.get(strategy, strategy)
-
-
-def _days_text(days: int | None) -> str:
-    if days is None:
-        return "not within the trip"
-    return "on the arrival day" if days == 0 else f"{days} day{'s' if days != 1 else ''} after arrival"
 
 
 def _outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
@@ -683,7 +790,7 @@ def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
     targets = list(dict.fromkeys(view.target_place.name for view in views))
     named = len(targets) > 1
     aim = "the target" if named else escape(targets[0])
-    table = Table(title=f"Day-by-day plan: {escape(_strategy_name(plan.strategy))}", box=box.SIMPLE_HEAD,
+    table = Table(title=f"Day-by-day plan: {escape(strategy_name(plan.strategy))}", box=box.SIMPLE_HEAD,
                   title_justify="left", caption_justify="left",
                   caption=("Times on the local clock of where the traveller is (in flight: the departure "
                            "airport's); a zone name marks a time on another clock than the row's. CBTmin — : "
@@ -717,15 +824,11 @@ def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
         comparison.add_column(header, no_wrap=header != "body clock")
     rows = [(name, result.outcome) for name, result in plan.alternatives.items()] + [("no plan", plan.baseline)]
     for name, outcome in rows:
-        label = f"[bold]{_strategy_name(name)}[/bold] ✓" if name == plan.strategy else _strategy_name(name)
-        if outcome.aim == "home":
-            settles = f"held within {outcome.max_away_error_h:.1f} h of home time"
-        else:
-            settles = _days_text(outcome.reentrainment_days)
-        comparison.add_row(label, settles, f"{outcome.box_minutes:.0f} min",
+        label = f"[bold]{strategy_name(name)}[/bold] ✓" if name == plan.strategy else strategy_name(name)
+        comparison.add_row(label, settling(outcome), f"{outcome.box_minutes:.0f} min",
                            "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives)))
     console.print(Panel(comparison, title="Advance, delay or no plan", title_align="left"))
-    console.print(f"[bold]Recommended:[/bold] {escape(_strategy_name(plan.strategy))} — {escape(plan.reason)}")
+    console.print(f"[bold]Recommended:[/bold] {escape(strategy_name(plan.strategy))} — {escape(plan.reason)}")
     if plan.success:
         console.print(f"[bold]Result:[/bold] {escape(plan.message)}")
     else:
@@ -740,9 +843,11 @@ def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
     _print_citations(console, [model])
 
 
-def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str | None, json_out: bool) -> None:
+def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str | None, json_out: bool,
+              files: PlanFiles = PlanFiles()) -> None:
     trip, info = load_trip(path)
     model = load_model(model_name or info.model)
+    files.check()
     wanted = StrategyChoice(strategy).value
     if json_out:
         plan = plan_trip(trip, model, wanted)
@@ -751,10 +856,15 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
         with console.status(f"planning {escape(info.name)} with {escape(model.id)} …"):
             plan = plan_trip(trip, model, wanted)
     views = day_views(trip, plan.recommended.outcome)
+    written = write_plan_files(document_from_trip(trip, info, plan, views), files)
     if json_out:
-        _emit_json(_trip_document(command, trip, info, model, plan, views))
+        document = _trip_document(command, trip, info, model, plan, views)
+        if written["ics"] or written["report"] or written["chart"]:
+            document["written"] = written
+        _emit_json(document)
         return
     _print_trip(console, trip, info, model, plan, views)
+    _print_written(console, written)
 
 
 ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
@@ -809,9 +919,12 @@ def check(path: CheckArgument, json_out: JsonOption = False) -> None:
     "Plan light and sleep for a trip across time zones: a day-by-day table on the local clock, the advance, "
     "delay and no-plan comparison, the recommendation and the cautions."))
 def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoice.auto, model_name: TripModelOption = None,
-                 json_out: JsonOption = False) -> None:
+                 json_out: JsonOption = False, ics: IcsOption = None, report: ReportOption = None,
+                 chart: ChartOption = None, force: ForceOption = False,
+                 alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES, no_alarms: NoAlarmsOption = False) -> None:
     """Plan a trip scenario (help text on the decorator)."""
-    _run_trip("trip", path, strategy, model_name, json_out)
+    _run_trip("trip", path, strategy, model_name, json_out,
+              PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
 
 
 @app.command("demo", help=(
@@ -823,6 +936,12 @@ def demo(
     model_name: TripModelOption = None,
     list_demos: Annotated[bool, typer.Option("--list", help="List the demo trips and exit.")] = False,
     json_out: JsonOption = False,
+    ics: IcsOption = None,
+    report: ReportOption = None,
+    chart: ChartOption = None,
+    force: ForceOption = False,
+    alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
+    no_alarms: NoAlarmsOption = False,
 ) -> None:
     """Run a demo trip (help text on the decorator)."""
     rosters = builtin_roster_paths()
@@ -844,7 +963,52 @@ def demo(
         from planner.cli_roster import run_roster
         run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out)
         return
-    _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out)
+    _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out,
+              PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
+
+
+# --------------------------------------------------------------------------- publish
+
+@app.command("publish", help=(
+    "Put the events of a calendar file written by --ics into a CalDAV calendar collection. Publishing an "
+    "edited plan again updates its events and removes the ones it dropped; other events in the calendar "
+    "are left alone. The password is read from the environment variable PHASEPLAN_CALDAV_PASSWORD or "
+    "asked for (hidden); it is never a command-line argument."))
+def publish_command(
+    path: Annotated[Path, typer.Argument(metavar="FILE.ics", help="Calendar file written by --ics.")],
+    url: Annotated[str, typer.Option("--url", metavar="URL", help="The calendar collection, e.g. "
+                                     "https://dav.example.org/ana/plans/.")],
+    user: Annotated[str | None, typer.Option("--user", metavar="USER",
+                                             help="User name for the server (HTTP Basic); none by default.")] = None,
+    json_out: JsonOption = False,
+) -> None:
+    """Publish a calendar file to CalDAV (help text on the decorator)."""
+    from planner.caldav import PASSWORD_VARIABLE, collection_url, publish
+
+    collection_url(url)
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise InputError(f"cannot read: {exc.strerror or exc}", source=str(path)) from None
+    password = None
+    if user is not None:
+        password = os.environ.get(PASSWORD_VARIABLE)
+        if password is None:
+            if not sys.stdin.isatty():
+                raise InputError(f"no password: set {PASSWORD_VARIABLE} (no terminal to ask on)", field="--user")
+            password = typer.prompt(f"password for {user}", hide_input=True, err=True)
+    result = publish(data, url, user=user, password=password, source=str(path))
+    counts = {"created": len(result.created), "updated": len(result.updated), "unchanged": len(result.unchanged),
+              "deleted": len(result.deleted), "others_left_alone": result.others}
+    if json_out:
+        _emit_json({"command": "publish", "file": str(path), "url": result.url, **counts,
+                    "uids": {"created": list(result.created), "updated": list(result.updated),
+                             "unchanged": list(result.unchanged), "deleted": list(result.deleted)},
+                    "http_status": result.statuses})
+        return
+    console = _stderr()
+    console.print(f"published {escape(str(path))} to {escape(result.url)}")
+    _print_facts(console, None, [(label.replace("_", " "), str(count)) for label, count in counts.items()])
 
 
 # --------------------------------------------------------------------------- rosters

@@ -121,3 +121,22 @@ def movement(outcome: Outcome, alternatives: dict) -> str:
         verb = "advancing" if shorter[0] == "advance" else "delaying"
         text += f", the long way round ({verb} {shorter[1]:.1f} h is the shorter way)"
     return text
+
+
+def strategy_name(strategy: str) -> str:
+    """A strategy in words: "advance", "delay", "stay on home time"."""
+    return {"home": "stay on home time", "advance": "advance", "delay": "delay"}.get(strategy, strategy)
+
+
+def days_text(days: int | None) -> str:
+    """Days to re-entrain in words, e.g. "3 days after arrival"."""
+    if days is None:
+        return "not within the trip"
+    return "on the arrival day" if days == 0 else f"{days} day{'s' if days != 1 else ''} after arrival"
+
+
+def settling(outcome: Outcome) -> str:
+    """When the plan settles the body clock, in words (for "home" plans: how close to home time it stays)."""
+    if outcome.aim == "home":
+        return f"held within {outcome.max_away_error_h:.1f} h of home time"
+    return days_text(outcome.reentrainment_days)

@@ -36,6 +36,24 @@ def entrained_states() -> dict[str, np.ndarray]:
     return states
 
 
+@pytest.fixture(scope="session")
+def planned_demos() -> Callable[[str], tuple]:
+    """``get(name) -> (trip, info, TripPlanResult)``: a shipped demo trip planned with forger1999 and the
+    auto strategy, at most once per test session (planning a demo takes seconds)."""
+    from planner.scenario import demo_path, load_trip
+    from planner.tripplan import plan_trip
+
+    cache: dict[str, tuple] = {}
+
+    def get(name: str) -> tuple:
+        if name not in cache:
+            trip, info = load_trip(demo_path(name))
+            cache[name] = (trip, info, plan_trip(trip, load_model("forger1999")))
+        return cache[name]
+
+    return get
+
+
 @pytest.fixture
 def model_copy(tmp_path: Path) -> Callable[[Callable[[str], str], str], Path]:
     """Write an edited copy of a built-in model file into ``tmp_path``; return its path.

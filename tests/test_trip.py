@@ -1,6 +1,6 @@
 """Trip planning against published light responses and common practice, and the `trip`/`demo` commands.
 
-Each demo trip (scenarios/, invented travellers) is planned once per module (``demo_plans``);
+Each demo trip (scenarios/, invented travellers) is planned once per session (``demo_plans``);
 the command-line tests reuse those plans through a stand-in for ``planner.cli.plan_trip`` that
 returns the stored result for the same trip, so formatting is tested without planning again.
 One end-to-end run in a subprocess plans the short demo for real.
@@ -48,13 +48,9 @@ def model():
 
 
 @pytest.fixture(scope="module")
-def demo_plans(model):
-    """name -> (trip, info, TripPlanResult) for every shipped demo trip, planned once."""
-    plans = {}
-    for name, path in builtin_scenario_paths().items():
-        trip, info = load_trip(path)
-        plans[name] = (trip, info, plan_trip(trip, model))
-    return plans
+def demo_plans(planned_demos):
+    """name -> (trip, info, TripPlanResult) for every shipped demo trip, planned once per session."""
+    return {name: planned_demos(name) for name in builtin_scenario_paths()}
 
 
 @pytest.fixture
