@@ -70,9 +70,9 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
     Caution(
         "sleep_loss",
         "Sleep loss",
-        "Overnight flights and moved bedtimes cost sleep. Do not drive when drowsy: in a driving study, "
-        "near-crashes occurred in 37.5% of drives after a night shift and in none after a night's sleep. "
-        "Plan another way from the airport after a short night.",
+        "Overnight flights, night shifts and moved bedtimes cost sleep. Do not drive when drowsy: in a "
+        "driving study, near-crashes occurred in 37.5% of drives after a night shift and in none after a "
+        "night's sleep. Plan another way home (or from the airport) after a short night.",
         ("Lee et al. 2016, PNAS 113:176",),
         "Do not drive when drowsy; plan another way home after a short night.",
     ),

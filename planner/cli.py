@@ -961,7 +961,8 @@ def demo(
             raise InputError(f"--strategy {StrategyChoice(strategy).value} is for trips; plan a roster with "
                              f"'phaseplan roster {rosters[name]} --strategy nights|compromise|day'", field="--strategy")
         from planner.cli_roster import run_roster
-        run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out)
+        run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out,
+                   PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
         return
     _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out,
               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))

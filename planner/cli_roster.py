@@ -21,9 +21,11 @@ from rich.panel import Panel
 from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from planner.cautions import cautions_for
-from planner.cli import (NONE_TEXT, JsonOption, _citation_entry, _emit_json, _lux, _model_entry, _number, _window_entry,
-                         _print_citations, _print_facts, _stderr, app)
+from planner.cautions import SHIFT_CAUTIONS, cautions_for
+from planner.cli import (DEFAULT_ALARM_MINUTES, NONE_TEXT, AlarmOption, ChartOption, ForceOption, GroupOption,
+                         IcsOption, JsonOption, NoAlarmsOption, PlanFiles, ReportOption, _citation_entry, _emit_json,
+                         _lux, _model_entry, _number, _print_citations, _print_facts, _print_written, _stderr,
+                         _window_entry, app, write_plan_files)
 from planner.errors import InputError
 from planner.parameters import ModelSpec, load_model
 from planner.population import DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H
@@ -31,11 +33,9 @@ from planner.roster import Roster
 from planner.rosterfile import OFF, RosterInfo, load_roster
 from planner.rosterplan import (LOW_HALF_WIDTH_H, SHORT_NAMES, STRATEGY_NAMES, DraftResult, Metrics, RosterResult,
                                 StrategyOutcome, describe_settings, plan_roster)
-from planner.rosterview import RosterDayView, chart_legend, day_views, text_chart
+from planner.rosterview import RosterDayView, chart_legend, day_views, document_from_roster, text_chart
 from planner.trip import Window
 
-#: The cautions a roster plan shows, in order.
-ROSTER_CAUTIONS = ("model", "bright_light", "dark_glasses", "sleep_loss", "clinician")
 
 
 class RosterStrategy(str, Enum):
@@ -186,7 +186,7 @@ def _document(roster: Roster, info: RosterInfo, model: ModelSpec, result: Roster
                  "days": [_day_entry(roster, view) for view in views]},
         "chart": {"legend": chart_legend(), "lines": text_chart(roster, views)},
         "simulated": result.simulated,
-        "cautions": [c.as_dict() for c in cautions_for(ROSTER_CAUTIONS)],
+        "cautions": [c.as_dict() for c in cautions_for(SHIFT_CAUTIONS)],
         "conventions": {
             "times": "ISO 8601 on the site's local clock with its UTC offset",
             "disruption_score_h_per_week": "(hours of work within ±3 h of CBTmin + hours of biological night "
@@ -298,7 +298,7 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
     console.print(f"  {result.simulated:,} light schedules simulated")
 
     console.print("\n[bold]Cautions[/bold]")
-    for caution in cautions_for(ROSTER_CAUTIONS):
+    for caution in cautions_for(SHIFT_CAUTIONS):
         console.print(f"  • [bold]{escape(caution.title)}.[/bold] {escape(caution.text)} "
                       f"[dim]({escape('; '.join(caution.sources))})[/dim]")
     _print_citations(console, [model])
@@ -336,19 +336,31 @@ def roster_command(
     draft: Annotated[str | None, typer.Option(
         "--draft", metavar="NAME", help="Show the day-by-day plan of this draft (default: the top-ranked).")] = None,
     json_out: JsonOption = False,
+    ics: IcsOption = None,
+    report: ReportOption = None,
+    chart: ChartOption = None,
+    force: ForceOption = False,
+    alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
+    no_alarms: NoAlarmsOption = False,
+    group: GroupOption = None,
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
-    run_roster(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out)
+    run_roster(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out,
+               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group))
 
 
 def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: str | None, draft: str | None,
-               json_out: bool) -> None:
+               json_out: bool, files: PlanFiles = PlanFiles()) -> None:
     """Plan a roster file and print the result (shared by ``roster`` and ``demo``)."""
     roster, info = load_roster(path)
     model = load_model(model_name or info.model)
     if draft is not None and draft not in {d.name for d in roster.drafts}:
         allowed = ", ".join(f'"{d.name}"' for d in roster.drafts)
         raise InputError(f'no draft named "{draft}"; allowed: {allowed}', field="--draft")
+    if files.group is not None and files.group not in {c.name for c in roster.crews}:
+        allowed = ", ".join(f'"{c.name}"' for c in roster.crews) or "none (the file has no [[crews]])"
+        raise InputError(f'no crew named "{files.group}"; allowed: {allowed}', field="--group")
+    files.check()
     console = _stderr()
     with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
                   TimeElapsedColumn(), console=console, transient=True) as progress:
@@ -360,10 +372,15 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
         result = plan_roster(roster, model, strategy, workers=workers, seed=seed, progress=report)
     chosen = _pick(result, draft)
     views = _views(result, chosen)
+    written = write_plan_files(document_from_roster(roster, info, result, chosen, views), files)
     if json_out:
-        _emit_json(_document(roster, info, model, result, chosen, views, strategy, workers, seed))
+        document = _document(roster, info, model, result, chosen, views, strategy, workers, seed)
+        if written["ics"] or written["report"] or written["chart"]:
+            document["written"] = written
+        _emit_json(document)
         return
     _print_roster(console, roster, info, model, result, chosen, views, workers, seed)
+    _print_written(console, written)
 
 
 def check_roster(path: str, json_out: bool) -> None:

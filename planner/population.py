@@ -24,6 +24,9 @@ from planner.parameters import ModelSpec
 #: Intrinsic period of sighted adults, mean and SD [h] (Duffy et al. 2011, PNAS 108:15602) [1]_.
 DUFFY2011_TAU_MEAN_H = 24.15
 DUFFY2011_TAU_SD_H = 0.20
+DUFFY2011_CITATION = ("Duffy JF, Cain SW, Chang AM, Phillips AJK, Münch MY, Gronfier C, Wyatt JK, Dijk DJ, "
+                      "Wright KP Jr, Czeisler CA (2011). Sex difference in the near-24-hour intrinsic period of the "
+                      "human circadian timing system. PNAS 108(Suppl 3):15602-15608. doi:10.1073/pnas.1010666108")
 #: The percentiles reported for a population: 10th, median, 90th (common practice for a spread).
 REPORTED_PERCENTILES = (10.0, 50.0, 90.0)
 

@@ -108,6 +108,27 @@ class Draft:
 
 
 @dataclass(frozen=True)
+class Crew:
+    """A group of workers on the same draft, starting ``offset_days`` into its pattern.
+
+    Staggered crews (A starts the pattern on day 0, B on day 2, ...) cover a site around the clock;
+    each crew gets its own calendar.
+    """
+
+    name: str
+    offset_days: int = 0
+
+
+def crew_draft(draft: Draft, crew: Crew) -> Draft:
+    """The draft as ``crew`` works it: its pattern rotated to start ``offset_days`` in."""
+    shift = crew.offset_days % len(draft.pattern)
+    if shift == 0:
+        return draft
+    return Draft(f"{draft.name} ({crew.name})", draft.pattern[shift:] + draft.pattern[:shift], draft.cycles,
+                 draft.description)
+
+
+@dataclass(frozen=True)
 class Countermeasures:
     """What the workers have to steer their light.
 
@@ -158,6 +179,8 @@ class Roster:
     measures : Countermeasures
     crew_size : int
         Workers the roster is for (informative; population runs draw their own number).
+    crews : tuple of Crew
+        Staggered groups of workers (each its own calendar); empty for one group starting on day 0.
     """
 
     name: str
@@ -173,6 +196,7 @@ class Roster:
     night_outdoor_lux: float = DEFAULT_NIGHT_OUTDOOR_LUX
     measures: Countermeasures = field(default_factory=Countermeasures)
     crew_size: int = 1
+    crews: tuple[Crew, ...] = ()
 
     def shift(self, code: str) -> ShiftType:
         return next(s for s in self.shifts if s.code == code)

@@ -53,6 +53,13 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     name = "2 days, 2 nights, 4 off"
     pattern = ["D", "D", "N", "N", "off", "off", "off", "off"]
     cycles = 3
+
+    [[crews]]                              # optional staggered groups, one calendar each
+    name = "A"
+    offset_days = 0                        # days into the pattern the crew starts
+    [[crews]]
+    name = "B"
+    offset_days = 2
 """
 
 from __future__ import annotations
@@ -67,7 +74,7 @@ from pydantic import Field, field_validator
 from planner import tomlfile
 from planner.localtime import parse_clock
 from planner.markers import HOURS_PER_DAY
-from planner.roster import Countermeasures, Draft, Roster, ShiftType
+from planner.roster import Countermeasures, Crew, Draft, Roster, ShiftType
 from planner.shipped import shipped_toml_files
 from planner.scenario import PlaceEntry, SleepEntry, _checked, _model_reference, _Problems, _Strict
 from planner.localtime import zone
@@ -119,6 +126,11 @@ class CountermeasuresEntry(_Strict):
     daylight_max_minutes: float = Field(60.0, ge=0.0, le=24 * 60, allow_inf_nan=False)
 
 
+class CrewEntry(_Strict):
+    name: str = Field(min_length=1, max_length=40)
+    offset_days: int = Field(0, ge=0, le=365)
+
+
 class DraftEntry(_Strict):
     name: str = Field(min_length=1, max_length=80)
     pattern: list[str] = Field(min_length=1)
@@ -140,6 +152,7 @@ class RosterFile(_Strict):
     light: RosterLightEntry = Field(default_factory=RosterLightEntry)
     countermeasures: CountermeasuresEntry = Field(default_factory=CountermeasuresEntry)
     drafts: list[DraftEntry] = Field(min_length=1)
+    crews: list[CrewEntry] = Field(default_factory=list)
 
 
 @dataclass(frozen=True)
@@ -235,6 +248,11 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
         if all(code is None for code in codes):
             problems.add(("drafts", k, "pattern"), "the pattern has no shift at all; name at least one shift")
         drafts.append(Draft(entry.name, tuple(codes), entry.cycles, entry.description))
+    crew_names: set[str] = set()
+    for k, entry in enumerate(spec.crews):
+        if entry.name in crew_names:
+            problems.add(("crews", k, "name"), f'"{entry.name}" is used by another crew; each crew needs its own name')
+        crew_names.add(entry.name)
     problems.raise_if_any()
     sleep = spec.workers.sleep
     site = Place(spec.site.name, zone(spec.site.time_zone), float(spec.site.latitude), float(spec.site.longitude),
@@ -248,5 +266,6 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
     roster = Roster(spec.name, site, spec.start_date, tuple(shifts), tuple(drafts),
                     commute_minutes=spec.workers.commute_minutes, sleep_hours=spec.workers.sleep_hours,
                     work_lux=light.work_lux, indoor_lux=light.indoor_lux, daylight_lux=light.daylight_lux,
-                    night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count)
+                    night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count,
+                    crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews))
     return roster, RosterInfo(spec.name, spec.description, model, str(path))

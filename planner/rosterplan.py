@@ -71,6 +71,15 @@ Strategy = Literal["nights", "compromise", "day"]
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
 STRATEGY_NAMES = {"nights": "full adaptation to nights", "compromise": "compromise phase position",
                   "day": "stay day-oriented (anchor sleep)", "none": "no plan"}
+#: Where each strategy comes from (shown with the plan's citations).
+STRATEGY_CITATIONS = {
+    "nights": ("Smith MR, Eastman CI (2008). Sleep 31:1639 (bright light early in night shifts, dark glasses "
+               "home and a dark daytime sleep)"),
+    "compromise": ("Smith MR, Fogg LF, Eastman CI (2009). A compromise circadian phase position for permanent "
+                   "night work improves mood, fatigue, and performance. Sleep 32:1481 (title from memory)"),
+    "day": ("Minors DS, Waterhouse JM (1981). Anchor sleep as a synchronizer of rhythms on abnormal routines. "
+            "Int J Chronobiol 7:165-188 (from memory)"),
+}
 #: Short names for tables.
 SHORT_NAMES = {"nights": "nights", "compromise": "compromise", "day": "day-oriented", "none": "no plan"}
 
@@ -638,8 +647,8 @@ def _summarise_population(roster: Roster, draft: Draft, metrics: Metrics, popula
     for d, day in enumerate(days):
         column = metrics.cbtmin[:, d]
         finite = np.isfinite(column)
-        offset = roster.site.utc_offset_h(day.start) + hours_between(day.start, ref_epoch)
-        clock[finite, d] = np.mod(column[finite] + offset, HOURS_PER_DAY)
+        # Hours since the day's local midnight, wrapped: the clock time on the site's clock.
+        clock[finite, d] = np.mod(column[finite] - hours_between(ref_epoch, day.start), HOURS_PER_DAY)
     # Percentiles of clock times around the median's side of midnight: unwrap relative to the day's median.
     centre = np.nanmedian(clock, axis=0)
     unwrapped = centre[None, :] + ((clock - centre[None, :] + 12.0) % 24.0 - 12.0)
