@@ -29,7 +29,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from datetime import datetime, timedelta
-from typing import Literal, Sequence
+from typing import Callable, Literal, Sequence
 
 import numpy as np
 from scipy.optimize import differential_evolution
@@ -141,6 +141,9 @@ class Evaluator:
     simulated: int = 0
     #: Step used while searching [min]; None = the model file's validated step.
     search_step_minutes: float | None = None
+    #: State at ``trip.start``, shape (3,) (e.g. from a measured DLMO or a light log,
+    #: :mod:`planner.evidence`); None = entrained to the habitual home day.
+    initial_state: np.ndarray | None = None
 
     def __post_init__(self):
         self.targets_ = targets(self.trip, self.model)
@@ -155,6 +158,9 @@ class Evaluator:
                 raise ComputationError(f"cannot entrain to the day at {place.name}: {steady.message}")
             self.target_clock[place.name] = float(steady.cbtmin_clock_h[0])
         self.reference_amplitude = float(self.model.family.amplitude(self.targets_.initial_state[:2])[0])
+        if self.initial_state is None:
+            self.initial_state = self.targets_.initial_state
+        self.initial_state = np.asarray(self.initial_state, dtype=float).reshape(3)
 
     def arrival_index(self) -> int:
         return next(d.index for d in self.days if d.kind == "travel")
@@ -174,7 +180,7 @@ class Evaluator:
         """Simulate plans in one batch: at the search step, or with ``final`` at the model's own step."""
         schedules = [plan_schedule(self.trip, plan) for plan in plans]
         step = None if final else self.search_step_minutes
-        result = simulate(self.model, schedules, self.targets_.initial_state, start=self.trip.start, end=self.trip.end,
+        result = simulate(self.model, schedules, self.initial_state, start=self.trip.start, end=self.trip.end,
                           step_minutes=step)
         if not result.success:
             raise ComputationError(result.message)
@@ -206,14 +212,25 @@ class Evaluator:
         settled = reentrainment(np.asarray(stay), 0.0, REENTRAINMENT_TOLERANCE_H)
         net = _net_shift_h([o.cbtmin for o in day_outcomes[:back]])
         direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
-        days_needed = settled.day if settled.day is not None else len(stay) + 5
-        residual = float(np.nanmean(np.abs(stay))) if np.any(np.isfinite(stay)) else 12.0
-        score = (days_needed + 0.05 * residual + BOX_MINUTE_PENALTY_DAYS * plan.box_minutes
-                 + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(self.trip, plan))
+        score = person_score(settled.day, np.asarray(stay)) + plan_burden_days(self.trip, plan)
         finite = [abs(e) for e in stay if math.isfinite(e)]
         largest = max(finite) if finite else math.nan
         return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
 
+
+
+def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
+    """One person's score of a plan before its burden, in days (lower is better): the days to
+    re-entrain (the days away + 5 when never) plus a twentieth of the mean |error| while away, so
+    that among plans re-entraining on the same day the one ending closer to the target wins."""
+    days_needed = days if days is not None else len(stay_errors_h) + 5
+    residual = float(np.nanmean(np.abs(stay_errors_h))) if np.any(np.isfinite(stay_errors_h)) else 12.0
+    return days_needed + 0.05 * residual
+
+
+def plan_burden_days(trip: Trip, plan: Plan) -> float:
+    """The burden of a plan in days of re-entrainment: light-box minutes and sleep displacement."""
+    return BOX_MINUTE_PENALTY_DAYS * plan.box_minutes + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(trip, plan)
 
 
 def _net_shift_h(cbtmins: Sequence[datetime | None]) -> float:
@@ -332,10 +349,11 @@ def _lattice(moment: datetime) -> datetime:
 class TripPlanner:
     """Plans one trip under one model (see the module docstring)."""
 
-    def __init__(self, trip: Trip, model: ModelSpec):
+    def __init__(self, trip: Trip, model: ModelSpec, initial_state: np.ndarray | None = None):
         self.trip = trip
         self.model = model
-        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes))
+        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
+                                   initial_state=initial_state)
         self.days = self.evaluator.days
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
@@ -477,8 +495,13 @@ class TripPlanner:
         return BOX_MINUTE_PENALTY_DAYS * outcome.box_minutes
 
     def refine(self, strategy: Strategy, choices: list[DayChoice], anchors, seed: int = 0,
-               maxiter: int = 12, popsize: int = 6) -> tuple[list[DayChoice], Outcome]:
-        """Differential evolution over every day's windows, seeded with ``choices``."""
+               maxiter: int = 12, popsize: int = 6,
+               score_plans: Callable[[list[Plan]], np.ndarray] | None = None) -> tuple[list[DayChoice], Outcome]:
+        """Differential evolution over every day's windows, seeded with ``choices``.
+
+        ``score_plans`` scores a batch of plans (lower is better); default: the average
+        person's :attr:`Outcome.score` (a population's robust score in :mod:`planner.robust`).
+        """
         sign = 1.0 if strategy == "advance" else -1.0
         active = [i for i, a in enumerate(anchors) if a is not None]
         bounds = []
@@ -502,6 +525,8 @@ class TripPlanner:
         def objective(population):
             members = population.T
             plans = [self.build(decode(v), anchors, strategy) for v in members]
+            if score_plans is not None:
+                return np.asarray(score_plans(plans), dtype=float)
             return np.array([o.score for o in self.evaluator.evaluate(plans)])
 
         rng = np.random.default_rng(seed)
@@ -554,6 +579,9 @@ class StrategyResult:
     greedy_score: float
     refined: bool
     required_shift_h: float
+    #: The day choices and anchors the plan was built from (a start for further searches).
+    choices: tuple = ()
+    anchors: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -599,7 +627,8 @@ def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) ->
     outcome = refined_outcome if better else greedy_outcome
     outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
     return StrategyResult(strategy, outcome, greedy_outcome.score, better,
-                          required_shift_h(planner.trip, planner.evaluator, strategy))
+                          required_shift_h(planner.trip, planner.evaluator, strategy),
+                          tuple(refined_choices if better else choices), tuple(anchors))
 
 
 def _days_or_inf(outcome: Outcome) -> float:
@@ -657,7 +686,7 @@ def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str |
 
 
 def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance", "delay"] = "auto",
-              *, seed: int = 0) -> TripPlanResult:
+              *, seed: int = 0, initial_state: np.ndarray | None = None) -> TripPlanResult:
     """Plan a trip: baseline, the requested strategies, and a recommendation.
 
     With ``strategy="auto"`` on a short trip back home (see :func:`_home_time_wanted`),
@@ -666,8 +695,11 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
 
     An infeasible target is not an error: the best plan found is returned with
     ``success`` False and a message saying how far it falls short.
+
+    ``initial_state`` (shape (3,)) is the traveller's state at ``trip.start`` from evidence
+    (:func:`planner.evidence.starting_phase`); default entrained to the habitual home day.
     """
-    planner = TripPlanner(trip, model)
+    planner = TripPlanner(trip, model, initial_state)
     baseline = planner.baseline()
     wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
     results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}
