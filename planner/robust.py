@@ -314,6 +314,11 @@ class RobustResult:
     simulated: int
 
     @property
+    def improved(self) -> bool:
+        """Whether the search found a plan with a better robust score than the average-person plan."""
+        return self.search.score < self.seed_search.score - 1e-9
+
+    @property
     def plan(self) -> Plan:
         return self.outcome.plan
 
