@@ -14,6 +14,7 @@ No science lives here: every number comes from :mod:`planner`.  House rules:
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import sys
@@ -44,6 +45,7 @@ from planner.trip import Place, Trip, Window, trip_days
 from planner.tripplan import REENTRAINMENT_TOLERANCE_H, TripPlanResult, plan_trip
 from planner.tripview import DayView, clock_change_h, day_views, local, movement, shorter_way, zone_label, zone_name
 from planner.evidence import StartingPhase, person_model, starting_phase
+from planner.lightlog import read_light_log
 from planner.robust import (SEARCH_PEOPLE, EnsembleResult, PlanStats, RobustResult, distribution_spec, model_ensemble,
                             population_report, robust_plan)
 
@@ -545,6 +547,12 @@ def _scenario_problems(path: str) -> tuple[list[Problem], tuple[Trip, ScenarioIn
         return list(exc.problems), None
     except InputError as exc:
         return [Problem(path, "model", _one_line(exc.one_line()))], None
+    person = loaded[1].person
+    if person.light_log is not None:
+        try:
+            read_light_log(person.light_log, person.light_log_time_zone or loaded[0].home.zone)
+        except InputError as exc:
+            return [Problem(exc.source or path, exc.field or "person.light_log", exc.message)], None
     return [], loaded
 
 
@@ -799,7 +807,7 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
     views = day_views(trip, plan.recommended.outcome)
     bar, update = _progress_bar(console)
     robust_result = population = ensemble = None
-    with bar:
+    with (bar if robust or people or ensemble_ids else contextlib.nullcontext()):
         if robust:
             robust_result = robust_plan(trip, base_model, plan, evidence=evidence, seed=seed, by_day=by_day,
                                         progress=update)
@@ -836,6 +844,12 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
     if ensemble is not None:
         _print_ensemble(console, trip, ensemble)
     _print_cautions(console, models_used)
+
+
+def _person_entry(person) -> dict[str, Any]:
+    return {"evidence": person.source, "dlmo": None if person.dlmo_h is None else _clock(person.dlmo_h),
+            "dlmo_date": person.dlmo_date.isoformat() if person.dlmo_date else None, "dlmo_sd_min": person.dlmo_sd_min,
+            "light_log": person.light_log, "tau_h": person.tau_h}
 
 
 def _model_list(text: str | None) -> list[str]:
@@ -1037,7 +1051,8 @@ def check(path: ScenarioArgument, json_out: JsonOption = False) -> None:
     summary = {"name": info.name, "model": info.model, "round_trip": info.round_trip,
                "clock_change_h": _number(clock_change_h(trip)),
                "start": _local_iso(trip, trip.start), "end": _local_iso(trip, trip.end), "days": len(days),
-               "preparation_days": trip.preparation_days, "flights": flights, "busy": len(trip.busy)}
+               "preparation_days": trip.preparation_days, "flights": flights, "busy": len(trip.busy),
+               "person": _person_entry(info.person)}
     if json_out:
         _emit_json({"command": "check", "valid": True, "problems": [], "summary": summary})
         return
@@ -1050,7 +1065,9 @@ def check(path: ScenarioArgument, json_out: JsonOption = False) -> None:
                               f"{'east' if summary['clock_change_h'] > 0 else 'west'} at the first arrival"),
              ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(days)} days, "
                          f"{trip.preparation_days} of preparation)"),
-             ("busy periods", str(len(trip.busy))), ("model", escape(info.model))]
+             ("busy periods", str(len(trip.busy))), ("model", escape(info.model)),
+             ("starting phase", {"dlmo": "measured DLMO", "light_log": "light log",
+                                 "habitual": "habitual sleep and typical light"}[info.person.source])]
     _print_facts(console, None, rows)
 
 

@@ -233,15 +233,15 @@ def read_light_log(path: str | Path, time_zone: str | tzinfo | None = None) -> L
             if not math.isfinite(lux):
                 raise ValueError("lux is not finite")
             value = datetime.fromisoformat(stamp.strip().replace("Z", "+00:00"))
-            if value.tzinfo is None and local_zone is None:
-                raise InputError(f"line {line}: time stamp {stamp.strip()!r} has no UTC offset; give the offset "
-                                 "(e.g. 2027-03-01T07:30+01:00) or the log's time zone (light_log_time_zone)",
-                                 source=source, field="timestamp")
-            moment, kind = _parse_time(stamp, local_zone, previous) if value.tzinfo is None else (
-                value.astimezone(UTC), "aware")
         except (ValueError, IndexError):
             unreadable.append(line)
             continue
+        if value.tzinfo is None and local_zone is None:
+            raise InputError(f"line {line}: time stamp {stamp.strip()!r} has no UTC offset; give the offset "
+                             "(e.g. 2027-03-01T07:30+01:00) or the log's time zone (light_log_time_zone)",
+                             source=source, field="timestamp")
+        moment, kind = _parse_time(stamp, local_zone, previous) if value.tzinfo is None else (
+            value.astimezone(UTC), "aware")
         if kind == "gap":
             nonexistent.append(line)
             continue
