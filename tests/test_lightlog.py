@@ -22,37 +22,12 @@ from planner.markers import HOURS_PER_DAY, TWO_PI
 from planner.scenario import load_trip
 from planner.trip import place_pattern
 
+from conftest import lisbon_trip_toml
+
 LISBON = ZoneInfo("Europe/Lisbon")
 #: The invented week of the tests: a late sleeper in Lisbon, 2027-05-03 to 2027-05-09.
 LOG_START = datetime(2027, 5, 3, tzinfo=LISBON)
 LOG_DAYS = 7
-
-SCENARIO = """\
-kind = "trip"
-name = "Invented tester: Lisbon to Tokyo"
-model = "forger1999"
-[traveller]
-sleep = {{ bed = "23:00", wake = "07:00" }}
-preparation_days = 1
-[home]
-name = "Lisbon"
-time_zone = "Europe/Lisbon"
-latitude = 38.72
-longitude = -9.14
-[destination]
-name = "Tokyo"
-time_zone = "Asia/Tokyo"
-latitude = 35.68
-longitude = 139.69
-stay_days = 4
-[[flights]]
-from = "home"
-to = "destination"
-depart = "2027-05-12 11:00"
-arrive = "2027-05-13 07:00"
-{person}
-"""
-
 
 def late_week() -> LightSchedule:
     """An invented late sleeper: sleep 02:00-10:00, 500 lux evenings, an hour outdoors at 16:00; edges on 5 min."""
@@ -83,7 +58,9 @@ def write_log(path: Path, schedule: LightSchedule, *, step_min: int = 5, drop: t
 
 def scenario(tmp_path: Path, person: str) -> Path:
     path = tmp_path / "trip.toml"
-    path.write_text(SCENARIO.format(person=person), encoding="utf-8")
+    path.write_text(lisbon_trip_toml("Tokyo", "Asia/Tokyo", 35.68, 139.69, stay_days=4, preparation_days=1,
+                                     depart="2027-05-12 11:00", arrive="2027-05-13 07:00", extra=person),
+                    encoding="utf-8")
     return path
 
 

@@ -23,36 +23,16 @@ from planner.robust import model_ensemble, population_report, robust_plan
 from planner.scenario import load_trip
 from planner.tripplan import plan_trip
 
-from conftest import T0
+from conftest import T0, lisbon_trip_toml
 
 #: An invented trip six time zones east with no preparation and no outdoor light, so that only the
 #: light box can help; planned for the advance only, which keeps each plan to a second or two.
-SIX_EAST = """\
-kind = "trip"
-name = "Invented tester: Lisbon to Bangkok"
-[traveller]
-sleep = {{ bed = "23:00", wake = "07:00" }}
-preparation_days = 0
-[home]
-name = "Lisbon"
-time_zone = "Europe/Lisbon"
-latitude = 38.72
-longitude = -9.14
-[destination]
-name = "Bangkok"
-time_zone = "Asia/Bangkok"
-latitude = 13.75
-longitude = 100.5
-stay_days = 5
-[[flights]]
-from = "home"
-to = "destination"
-depart = "2027-05-12 12:00"
-arrive = "2027-05-13 06:00"
-[light]
-daylight = false
-box_max_minutes = {box}
-"""
+SIX_EAST = functools.partial(lisbon_trip_toml, "Bangkok", "Asia/Bangkok", 13.75, 100.5, stay_days=5,
+                             preparation_days=0, depart="2027-05-12 12:00", arrive="2027-05-13 06:00")
+
+
+def six_east_text(box: int) -> str:
+    return SIX_EAST(extra=f"[light]\ndaylight = false\nbox_max_minutes = {box}")
 
 
 @pytest.fixture(scope="session")
@@ -67,7 +47,7 @@ def six_east(tmp_path_factory, model):
     out = {}
     for box in (0, 30, 60):
         path = folder / f"box{box}.toml"
-        path.write_text(SIX_EAST.format(box=box), encoding="utf-8")
+        path.write_text(six_east_text(box), encoding="utf-8")
         trip, _ = load_trip(path)
         out[box] = (trip, path, plan_trip(trip, model, "advance"))
     return out
