@@ -123,14 +123,6 @@ class Population:
         base = average_model(self.model)
         return Population(with_people(base, tau, scale), tau, self.seed, scale)
 
-    def spec(self, sensitivity_sd_ln: float, tau_sd_h: float) -> dict:
-        """How the population was drawn, for reports."""
-        return {"size": self.size, "seed": self.seed, "tau_h": {"distribution": "normal", "sd_h": tau_sd_h,
-                                                                "mean_h": float(np.mean(self.tau_h)),
-                                                                "source": "Duffy et al. 2011, PNAS 108:15602"},
-                "alpha0_scale": {"distribution": "lognormal", "sd_ln": sensitivity_sd_ln,
-                                 "source": "this planner's assumption (see planner.population)"}}
-
 
 def average_model(model: ModelSpec) -> ModelSpec:
     """The model with every per-person array replaced by the file's own scalar value (the average person)."""

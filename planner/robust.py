@@ -331,7 +331,8 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
     For each direction the average-person search planned (advance, delay), the trip planner's
     differential-evolution refinement runs again from that plan with the population's robust
     score; the direction with the better robust score wins.  Returns None when the average
-    result has no light plan to refine (only staying on home time).
+    result recommends staying on home time (there is no light plan to make robust: moving the
+    clock there and back is what the recommendation avoids) or has no light plan at all.
 
     Parameters
     ----------
@@ -347,7 +348,7 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
     progress = progress or _no_progress
     strategies = [name for name in ("advance", "delay") if name in average.alternatives
                   and average.alternatives[name].choices]
-    if not strategies:
+    if not strategies or average.strategy == "home":
         return None
     average_model = person_model(model, evidence)
     start = starting_phase(trip, model, evidence)
