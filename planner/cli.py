@@ -795,7 +795,12 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
     base_model = load_model(model_name or info.model)
     ensemble_ids = _model_list(models_list)
     evidence = info.person
-    start = starting_phase(trip, base_model, evidence)
+    try:
+        start = starting_phase(trip, base_model, evidence)
+    except InputError as exc:   # the scenario's [person] table: name the file
+        if exc.source is None:
+            raise InputError(exc.message, source=info.path, field=exc.field) from None
+        raise
     model = person_model(base_model, evidence)
     wanted = StrategyChoice(strategy).value
     console = _stderr()

@@ -180,3 +180,22 @@ def test_person_table_is_checked(tmp_path):
     # PNAS 108:15602), so 27 h is refused; a missing file is named
     assert "person.dlmo" in text and "person.tau_h" in text
     assert not math.isnan(1.0)
+
+
+def test_the_light_log_demo_reports_what_its_log_contains():
+    from planner.scenario import demo_path
+    trip, info = load_trip(demo_path("porto-singapore-lightlog"))
+    start = starting_phase(trip, load_model(info.model), info.person)
+    assert start.source == "light_log"
+    # tools/make_light_log.py writes a 3-h charging gap, one repeated row, two rows swapped and noise below zero
+    kinds = {f.kind: f for f in start.findings}
+    assert {"gap", "duplicate", "out_of_order", "negative_lux"} <= set(kinds)
+    assert kinds["gap"].hours == pytest.approx(3.0 + 10 / 60, abs=1e-9)   # 14:00-17:00 missing, 10-min samples
+
+
+def test_dlmo_after_the_plan_starts_is_exit_2_naming_the_file(tmp_path):
+    path = scenario(tmp_path, '[person]\ndlmo = "21:00"\ndlmo_date = 2027-05-11')   # the plan starts 2027-05-11
+    result = CliRunner().invoke(app, ["trip", str(path)])
+    assert result.exit_code == 2   # house rule: bad input exits 2 with one line naming file and field
+    line = result.stderr.strip()
+    assert len(line.splitlines()) == 1 and "trip.toml" in line and "person.dlmo_date" in line

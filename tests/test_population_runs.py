@@ -191,3 +191,15 @@ def test_bad_models_list_is_exit_2(six_east):
     result = CliRunner().invoke(app, ["trip", str(path), "--models", "forger1999,nosuchmodel"])
     assert result.exit_code == 2   # house rule: bad input exits 2 with one line naming the valid ids
     assert len(result.stderr.strip().splitlines()) == 1 and "valid ids" in result.stderr
+
+
+def test_human_output_shows_the_population_and_the_models(six_east):
+    _, path, _ = six_east[60]
+    result = CliRunner().invoke(app, ["trip", str(path), "--strategy", "advance", "--people", "8",
+                                      "--models", "forger1999,hannay2019"], env={"COLUMNS": "200"})
+    assert result.exit_code == 0, result.stderr
+    assert result.stdout == ""   # house rule: human output on stderr only
+    text = result.stderr
+    assert "How likely the plan works" in text and "8 simulated people" in text
+    assert "The recommended plan under each model" in text and "hannay2019" in text
+    assert "Starting phase" in text and "Cautions" in text
