@@ -117,7 +117,7 @@ class Population:
         return np.ones(self.size) if self.alpha0_scale is None else self.alpha0_scale
 
     def take(self, people: np.ndarray | slice) -> "Population":
-        """The sub-population of some people (for a smaller search population)."""
+        """The sub-population of some people (e.g. a chunk of a large population)."""
         tau = self.tau_h[people]
         scale = self.sensitivity[people]
         base = average_model(self.model)

@@ -158,9 +158,25 @@ class Evaluator:
                 raise ComputationError(f"cannot entrain to the day at {place.name}: {steady.message}")
             self.target_clock[place.name] = float(steady.cbtmin_clock_h[0])
         self.reference_amplitude = float(self.model.family.amplitude(self.targets_.initial_state[:2])[0])
+        self.start_cbtmin_h = self.targets_.home_cbtmin_h
         if self.initial_state is None:
             self.initial_state = self.targets_.initial_state
+        else:
+            self.start_cbtmin_h = self._first_home_cbtmin(np.asarray(self.initial_state, dtype=float).reshape(3))
         self.initial_state = np.asarray(self.initial_state, dtype=float).reshape(3)
+
+    def _first_home_cbtmin(self, state: np.ndarray) -> float:
+        """CBTmin [h of the home clock] of a traveller starting from ``state`` who keeps the habitual
+        home day for the first day and a half (the phase the evidence gives)."""
+        from planner.trip import place_pattern
+        end = self.trip.start + timedelta(hours=36)
+        day = place_pattern(self.trip.home, self.trip.light).schedule(self.trip.start.astimezone(self.trip.home.zone), 2)
+        result = simulate(self.model, day, state, start=self.trip.start, end=end)
+        markers = cbtmin_times(result)[0] if result.success else np.zeros(0)
+        if markers.size == 0:
+            return self.targets_.home_cbtmin_h
+        local = (self.trip.start + timedelta(hours=float(markers[0]))).astimezone(self.trip.home.zone)
+        return local.hour + local.minute / 60 + local.second / 3600
 
     def arrival_index(self) -> int:
         return next(d.index for d in self.days if d.kind == "travel")
@@ -253,7 +269,7 @@ def _sleep_displacement_h(trip: Trip, plan: Plan) -> float:
 
 def required_shift_h(trip: Trip, evaluator: Evaluator, strategy: Strategy) -> float:
     """How far the clock must move in the strategy's direction [h, positive]."""
-    home_clock = evaluator.targets_.home_cbtmin_h
+    home_clock = evaluator.start_cbtmin_h   # the traveller's own phase when evidence gives one
     dest = trip.destination
     dest_clock = evaluator.target_clock[dest.name]
     # Home CBTmin expressed on the destination clock at arrival, vs the destination target.
