@@ -35,7 +35,6 @@ Uncertainty of the starting phase (population runs)
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from datetime import date, datetime, time, timedelta, timezone
 from pathlib import Path

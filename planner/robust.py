@@ -23,8 +23,8 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from datetime import date, datetime, timedelta
-from typing import Callable, Literal, Sequence
+from datetime import timedelta
+from typing import Callable, Sequence
 
 import numpy as np
 
@@ -34,9 +34,9 @@ from planner.light import hours_between
 from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_difference, reentrainment
 from planner.parameters import ModelSpec, load_model
 from planner.population import (DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H, LIGHT_SENSITIVITY_SD_LN, Population,
-                                PopulationSuccess, draw_population, population_success, simulate_population, spread)
+                                draw_population, population_success, simulate_population, spread)
 from planner.trip import Plan, Trip, place_pattern, plan_schedule
-from planner.tripplan import (REENTRAINMENT_TOLERANCE_H, SEARCH_STEP_MINUTES, Aim, Evaluator, Outcome,
+from planner.tripplan import (REENTRAINMENT_TOLERANCE_H, Aim, Evaluator, Outcome,
                               TripPlanner, TripPlanResult, person_score, plan_burden_days, target_place)
 
 #: People in the population that scores candidates in a robust search (a design choice of this

@@ -512,7 +512,8 @@ class TripPlanner:
 
     def refine(self, strategy: Strategy, choices: list[DayChoice], anchors, seed: int = 0,
                maxiter: int = 12, popsize: int = 6,
-               score_plans: Callable[[list[Plan]], np.ndarray] | None = None) -> tuple[list[DayChoice], Outcome]:
+               score_plans: Callable[[list[Plan]], np.ndarray] | None = None,
+               init_spread: float = 0.15) -> tuple[list[DayChoice], Outcome]:
         """Differential evolution over every day's windows, seeded with ``choices``.
 
         ``score_plans`` scores a batch of plans (lower is better); default: the average
@@ -548,7 +549,7 @@ class TripPlanner:
         rng = np.random.default_rng(seed)
         count = max(5, popsize * len(bounds))
         count = min(count, 60)
-        spread = np.array([b[1] - b[0] for b in bounds]) * 0.15
+        spread = np.array([b[1] - b[0] for b in bounds]) * init_spread   # of each range, around the seed
         init = np.clip(base_vector + rng.normal(size=(count, len(bounds))) * spread,
                        [b[0] for b in bounds], [b[1] for b in bounds])
         init[0] = base_vector

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from datetime import date, datetime, timedelta
 from pathlib import Path
 from zoneinfo import ZoneInfo
@@ -172,14 +171,16 @@ def test_measured_dlmo_sets_the_starting_phase(tmp_path):
 
 
 def test_person_table_is_checked(tmp_path):
-    bad = scenario(tmp_path, '[person]\ndlmo = "25:10"\ntau_h = 27.0\nlight_log = "missing.csv"')
+    bad = scenario(tmp_path, '[person]\ndlmo = "25:10"\ntau_h = 27.0')
     result = CliRunner().invoke(app, ["check", str(bad)])
     assert result.exit_code == 2
     text = result.stderr
     # hours run 00-23 (common practice); sighted adults' intrinsic periods lie near 24.2 h (Duffy et al. 2011,
-    # PNAS 108:15602), so 27 h is refused; a missing file is named
+    # PNAS 108:15602), so 27 h is refused
     assert "person.dlmo" in text and "person.tau_h" in text
-    assert not math.isnan(1.0)
+    missing = scenario(tmp_path, '[person]\nlight_log = "missing.csv"')
+    result = CliRunner().invoke(app, ["check", str(missing)])
+    assert result.exit_code == 2 and "person.light_log" in result.stderr and "missing.csv" in result.stderr
 
 
 def test_the_light_log_demo_reports_what_its_log_contains():

@@ -5,7 +5,6 @@ from __future__ import annotations
 import functools
 import json
 from datetime import timedelta
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -14,7 +13,7 @@ from typer.testing import CliRunner
 import planner.cli
 from planner import load_model
 from planner.cli import app
-from planner.entrainment import DEFAULT_DAY, entrain
+from planner.entrainment import entrain
 from planner.integrate import simulate
 from planner.light import LightSchedule
 from planner.markers import cbtmin_times
