@@ -22,7 +22,7 @@ days, wrong-direction fraction).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import timedelta
 from typing import Callable, Sequence
 
@@ -374,7 +374,7 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
             return np.array(values)
 
         choices, _ = planner.refine(strategy, list(seed_result.choices), anchors, seed=seed, maxiter=maxiter,
-                                    score_plans=score)
+                                    score_plans=score, extra_seeds=_variants(seed_result.choices, strategy))
         plan = planner.build(choices, anchors, strategy)
         found, before = crowd.stats([plan, seed_result.outcome.plan], [strategy, strategy], by_day=by_day)
         if before.score <= found.score:
@@ -385,6 +385,22 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
     strategy, plan, found, before = best
     outcome = planner.evaluator.evaluate([plan], final=True)[0]
     return RobustResult(strategy, outcome, found, before, people, crowd.simulated)
+
+
+#: Moves of the light windows tried as extra starting plans of the robust search [h] (a design choice of
+#: this planner: a person whose clock runs later or earlier than the average meets the average
+#: person's windows at another phase, so the search starts from windows moved by up to 2 h).
+VARIANT_MOVES_H = (-2.0, -1.0, 1.0, 2.0)
+
+
+def _variants(choices: Sequence, strategy: str) -> list[list]:
+    """Starting plans for the robust search besides the average-person plan: its light windows
+    longer (2 h), and moved earlier or later (:data:`VARIANT_MOVES_H`)."""
+    longer = [replace(c, bright_hours=2.0) if c.bright_hours > 0 else c for c in choices]
+    moved = [[replace(c, bright_offset_h=c.bright_offset_h + move, avoid_offset_h=c.avoid_offset_h + move)
+              for c in choices] for move in VARIANT_MOVES_H]
+    return [longer] + moved + [[replace(c, bright_hours=2.0) if c.bright_hours > 0 else c for c in row]
+                               for row in moved]
 
 
 # --------------------------------------------------------------------------- population report

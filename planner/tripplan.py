@@ -513,7 +513,8 @@ class TripPlanner:
     def refine(self, strategy: Strategy, choices: list[DayChoice], anchors, seed: int = 0,
                maxiter: int = 12, popsize: int = 6,
                score_plans: Callable[[list[Plan]], np.ndarray] | None = None,
-               init_spread: float = 0.15) -> tuple[list[DayChoice], Outcome]:
+               init_spread: float = 0.15,
+               extra_seeds: Sequence[Sequence[DayChoice]] = ()) -> tuple[list[DayChoice], Outcome]:
         """Differential evolution over every day's windows, seeded with ``choices``.
 
         ``score_plans`` scores a batch of plans (lower is better); default: the average
@@ -524,11 +525,14 @@ class TripPlanner:
         bounds = []
         for _ in active:
             bounds += [(-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, 2.0), (-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, MAX_AVOIDANCE_H)]
-        base_vector = []
-        for i in active:
-            c = choices[i]
-            base_vector += [c.bright_offset_h, c.bright_hours, c.avoid_offset_h, c.avoid_hours]
-        base_vector = np.clip(np.asarray(base_vector), [b[0] for b in bounds], [b[1] for b in bounds])
+        def encode(days):
+            vector = []
+            for i in active:
+                c = days[i]
+                vector += [c.bright_offset_h, c.bright_hours, c.avoid_offset_h, c.avoid_hours]
+            return np.clip(np.asarray(vector, dtype=float), [b[0] for b in bounds], [b[1] for b in bounds])
+
+        base_vector = encode(choices)
 
         def decode(vector):
             new = list(choices)
@@ -553,6 +557,8 @@ class TripPlanner:
         init = np.clip(base_vector + rng.normal(size=(count, len(bounds))) * spread,
                        [b[0] for b in bounds], [b[1] for b in bounds])
         init[0] = base_vector
+        for row, extra in enumerate(extra_seeds[:count - 1], start=1):   # other starting plans, e.g. variants
+            init[row] = encode(extra)
         result = differential_evolution(objective, bounds, init=init, maxiter=maxiter, vectorized=True,
                                         updating="deferred", polish=False, seed=seed, tol=1e-6)
         refined = decode(result.x)
