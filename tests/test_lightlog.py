@@ -200,3 +200,20 @@ def test_dlmo_after_the_plan_starts_is_exit_2_naming_the_file(tmp_path):
     assert result.exit_code == 2   # house rule: bad input exits 2 with one line naming file and field
     line = result.stderr.strip()
     assert len(line.splitlines()) == 1 and "trip.toml" in line and "person.dlmo_date" in line
+
+
+def test_population_starting_dlmo_spreads_by_the_assay_uncertainty(tmp_path):
+    from planner.robust import draw_people
+    model = load_model("hannay2019")
+    trip, info = load_trip(scenario(tmp_path, '[person]\ndlmo = "22:00"\ndlmo_sd_min = 30'))
+    people = draw_people(model, 200, seed=4, evidence=info.person)
+    start = starting_phase(trip, model, info.person, population=people, seed=4)
+    dlmo = start.dlmo_clock_h
+    # around the measured 22:00 (hannay2019's DLMO at ψ = 5π/12, Hannay et al. 2019), moved back towards the
+    # habitual phase by less than half an hour in the day before the plan (regression snapshot, measured here:
+    # median 21:41, p10-p90 range 1.44 h)
+    assert abs(np.median(dlmo) - 22.0) < 0.5
+    # the 10th-90th percentile range of a normal with SD 30 min is 2·1.2816·0.5 = 1.28 h (the stated assay
+    # uncertainty, planner.evidence.DLMO_SD_MIN); a day of individual drift may widen or narrow it a little
+    spread = np.percentile(dlmo, 90) - np.percentile(dlmo, 10)
+    assert 0.9 < spread < 1.8
