@@ -14,6 +14,7 @@ No science lives here: every number comes from :mod:`planner`.  House rules:
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import os
@@ -31,6 +32,8 @@ from rich import box
 from rich.console import Console
 from rich.markup import escape
 from rich.panel import Panel
+from rich.progress import (BarColumn, MofNCompleteColumn, Progress, SpinnerColumn, TextColumn, TimeElapsedColumn,
+                           TimeRemainingColumn)
 from rich.table import Table
 from typer.core import TyperGroup
 
@@ -48,8 +51,12 @@ from planner.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths,
 from planner.tomlfile import InputFileError, Problem, declared_kind
 from planner.trip import Place, Trip, Window, trip_days
 from planner.tripplan import REENTRAINMENT_TOLERANCE_H, TripPlanResult, plan_trip
-from planner.tripview import (DayView, clock_change_h, day_views, local, movement, settling, strategy_name, zone_label,
-                              zone_name)
+from planner.tripview import (DayView, clock_change_h, day_views, days_text, local, movement, settling, shorter_way,
+                              strategy_name, zone_label, zone_name)
+from planner.evidence import StartingPhase, person_model, starting_phase
+from planner.lightlog import read_light_log
+from planner.robust import (SEARCH_PEOPLE, EnsembleResult, PlanStats, RobustResult, distribution_spec, model_ensemble,
+                            population_report, robust_plan)
 
 try:  # recent typer carries its own copy of click; its errors derive from TyperException
     from typer import TyperException as _UsageProblem
@@ -623,6 +630,21 @@ TripModelOption = Annotated[str | None, typer.Option(
     "--model", "-m", metavar="ID_OR_PATH",
     help="Model to use instead of the scenario's own (a built-in id or the path of a model .toml file).")]
 
+PeopleOption = Annotated[int, typer.Option(
+    "--people", metavar="N", min=0, max=100_000,
+    help=("Simulate N people (intrinsic period, light sensitivity and starting phase drawn per person) and report "
+          "how likely the plan works; 0 = off."))]
+SeedOption = Annotated[int, typer.Option("--seed", metavar="S", min=0, help="Seed of the population draw (same seed, same people).")]
+RobustOption = Annotated[bool, typer.Option(
+    "--robust", help=(f"Also search a plan robust to who the traveller is, scored over {SEARCH_PEOPLE} simulated "
+                      "people, and show it beside the average-person plan."))]
+ModelsOption = Annotated[str | None, typer.Option(
+    "--models", metavar="LIST",
+    help="Run the recommended plan under each of these models (comma-separated ids or files) and show where they disagree.")]
+ByDayOption = Annotated[int | None, typer.Option(
+    "--by-day", metavar="K", min=0, max=60,
+    help="Day after arrival by which re-entrainment counts as success (default: the end of the stay).")]
+
 #: Cell text of the trip tables for "nothing".
 NONE_TEXT = "—"
 
@@ -643,6 +665,12 @@ def _scenario_problems(path: str, loader=None) -> tuple[list[Problem], tuple[Any
         return list(exc.problems), None
     except InputError as exc:
         return [Problem(path, "model", _one_line(exc.one_line()))], None
+    person = loaded[1].person
+    if person.light_log is not None:
+        try:
+            read_light_log(person.light_log, person.light_log_time_zone or loaded[0].home.zone)
+        except InputError as exc:
+            return [Problem(exc.source or path, exc.field or "person.light_log", exc.message)], None
     return [], loaded
 
 
@@ -773,24 +801,12 @@ def _error_cell(error: float, target: Place, named: bool) -> str:
     return f"{abs(error):.1f} h {'late' if error > 0 else 'early'}{where}"
 
 
-def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSpec, plan: TripPlanResult,
-                views: list[DayView]) -> None:
-    change = clock_change_h(trip)
-    way = "east" if change > 0 else "west"
-    console.print(f"[bold]{escape(info.name)}[/bold]")
-    if info.description:
-        console.print(escape(info.description))
-    route = " → ".join([escape(trip.home.name)] + [escape(f.destination.name) for f in trip.flights])
-    facts = [("route", route),
-             ("clock change", f"{abs(change):g} h {way} at the first arrival" if change else "none"),
-             ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(views)} days)"),
-             ("model", escape(model.id))]
-    _print_facts(console, None, facts)
-
+def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
+    """The day-by-day table of a plan (markup in ``title`` already escaped)."""
     targets = list(dict.fromkeys(view.target_place.name for view in views))
     named = len(targets) > 1
     aim = "the target" if named else escape(targets[0])
-    table = Table(title=f"Day-by-day plan: {escape(strategy_name(plan.strategy))}", box=box.SIMPLE_HEAD,
+    table = Table(title=title, box=box.SIMPLE_HEAD,
                   title_justify="left", caption_justify="left",
                   caption=("Times on the local clock of where the traveller is (in flight: the departure "
                            "airport's); a zone name marks a time on another clock than the row's. CBTmin — : "
@@ -817,9 +833,27 @@ def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
         cbtmin = _clock_cell(trip, view.cbtmin, row_zone) if view.cbtmin is not None else NONE_TEXT
         table.add_row(f"{date_text}\n[dim]{day.kind}[/dim]", escape(clock), sleep, bright, avoid, cbtmin,
                       _error_cell(view.error_h, view.target_place, named))
-    console.print(table)
+    return table
+
+
+def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSpec, plan: TripPlanResult,
+                views: list[DayView]) -> None:
+    change = clock_change_h(trip)
+    way = "east" if change > 0 else "west"
+    console.print(f"[bold]{escape(info.name)}[/bold]")
+    if info.description:
+        console.print(escape(info.description))
+    route = " → ".join([escape(trip.home.name)] + [escape(f.destination.name) for f in trip.flights])
+    facts = [("route", route),
+             ("clock change", f"{abs(change):g} h {way} at the first arrival" if change else "none"),
+             ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(views)} days)"),
+             ("model", escape(model.id))]
+    _print_facts(console, None, facts)
+
+    console.print(_day_table(trip, views, f"Day-by-day plan: {escape(strategy_name(plan.strategy))}"))
 
     comparison = Table(box=box.SIMPLE_HEAD)
+
     for header in ("plan", "re-entrains", "light box", "near low amplitude", "body clock"):
         comparison.add_column(header, no_wrap=header != "body clock")
     rows = [(name, result.outcome) for name, result in plan.alternatives.items()] + [("no plan", plan.baseline)]
@@ -836,35 +870,276 @@ def _print_trip(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
                       "found; consider more preparation days, more light, or a longer stay.")
     console.print(f"  {plan.simulated:,} light schedules simulated")
 
+
+def _print_cautions(console: Console, models: Sequence[ModelSpec]) -> None:
     console.print("\n[bold]Cautions[/bold]")
     for caution in cautions_for():
         console.print(f"  • [bold]{escape(caution.title)}.[/bold] {escape(caution.text)} "
                       f"[dim]({escape('; '.join(caution.sources))})[/dim]")
-    _print_citations(console, [model])
+    _print_citations(console, models)
+
+
+def _progress_bar(console: Console):
+    """A rich progress bar on stderr and the callback that drives it (one task per description)."""
+    bar = Progress(SpinnerColumn(), TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+                   TimeElapsedColumn(), TimeRemainingColumn(), console=console, transient=True)
+    tasks: dict[str, Any] = {}
+
+    def update(description: str, completed: int, total: int) -> None:
+        if description not in tasks:
+            tasks[description] = bar.add_task(description, total=total)
+        bar.update(tasks[description], completed=completed, total=total)
+
+    return bar, update
 
 
 def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str | None, json_out: bool,
-              files: PlanFiles = PlanFiles()) -> None:
+              people: int = 0, seed: int = 0, robust: bool = False, models_list: str | None = None,
+              by_day: int | None = None, files: PlanFiles = PlanFiles()) -> None:
     trip, info = load_trip(path)
-    model = load_model(model_name or info.model)
+    base_model = load_model(model_name or info.model)
+    ensemble_ids = _model_list(models_list)
+    evidence = info.person
+    try:
+        start = starting_phase(trip, base_model, evidence)
+    except InputError as exc:   # the scenario's [person] table: name the file
+        if exc.source is None:
+            raise InputError(exc.message, source=info.path, field=exc.field) from None
+        raise
+    model = person_model(base_model, evidence)
     files.check()
     wanted = StrategyChoice(strategy).value
+    console = _stderr()
     if json_out:
-        plan = plan_trip(trip, model, wanted)
+        plan = plan_trip(trip, model, wanted, initial_state=start.state)
     else:
-        console = _stderr()
         with console.status(f"planning {escape(info.name)} with {escape(model.id)} …"):
-            plan = plan_trip(trip, model, wanted)
+            plan = plan_trip(trip, model, wanted, initial_state=start.state)
     views = day_views(trip, plan.recommended.outcome)
-    written = write_plan_files(document_from_trip(trip, info, plan, views), files)
+    bar, update = _progress_bar(console)
+    robust_result = population = ensemble = None
+    with (bar if robust or people or ensemble_ids else contextlib.nullcontext()):
+        if robust:
+            robust_result = robust_plan(trip, base_model, plan, evidence=evidence, seed=seed, by_day=by_day,
+                                        progress=update)
+        if people:
+            named = _population_plans(plan, robust_result)
+            stats, starting, _ = population_report(trip, base_model, named, size=people, seed=seed,
+                                                   evidence=evidence, by_day=by_day, progress=update)
+            population = (stats, starting)
+        if ensemble_ids:
+            update("model ensemble", 0, 1)
+            ensemble = model_ensemble(trip, plan.recommended.outcome.plan, ensemble_ids,
+                                      aim=plan.recommended.outcome.aim, evidence=evidence)
+            update("model ensemble", 1, 1)
+    models_used = [model] + [m.model for m in (ensemble.members if ensemble else []) if m.model.id != model.id]
+    written = write_plan_files(document_from_trip(trip, info, plan, views, population=population), files)
     if json_out:
         document = _trip_document(command, trip, info, model, plan, views)
+        document["citations"] = [_citation_entry(m) for m in models_used]
+        document["starting_phase"] = _starting_entry(start)
+        document["population"] = _population_entry(trip, people, seed, evidence, population)
+        document["robust"] = _robust_entry(trip, robust_result, plan)
+        document["ensemble"] = _ensemble_entry(trip, ensemble)
+        document["cautions"] = document.pop("cautions")
         if written["ics"] or written["report"] or written["chart"]:
             document["written"] = written
         _emit_json(document)
         return
     _print_trip(console, trip, info, model, plan, views)
+    _print_starting(console, start)
+    if robust_result is not None:
+        _print_robust(console, trip, robust_result, plan)
+    elif robust:
+        console.print("\n[bold]Robust plan:[/bold] none searched — the recommendation keeps home time, "
+                      "with no light plan to make robust")
+    if population is not None:
+        _print_population(console, people, seed, population)
+    if ensemble is not None:
+        _print_ensemble(console, trip, ensemble)
+    _print_cautions(console, models_used)
     _print_written(console, written)
+
+
+def _person_entry(person) -> dict[str, Any]:
+    return {"evidence": person.source, "dlmo": None if person.dlmo_h is None else _clock(person.dlmo_h),
+            "dlmo_date": person.dlmo_date.isoformat() if person.dlmo_date else None, "dlmo_sd_min": person.dlmo_sd_min,
+            "light_log": person.light_log, "tau_h": person.tau_h}
+
+
+def _model_list(text: str | None) -> list[str]:
+    """Model ids (or files) of --models, checked before any planning starts."""
+    if text is None:
+        return []
+    names = [name.strip() for name in text.split(",") if name.strip()]
+    if not names:
+        raise InputError("give one or more model ids separated by commas, e.g. forger1999,jewett1999,hannay2019",
+                         field="--models")
+    for name in names:
+        load_model(name)
+    return list(dict.fromkeys(names))
+
+
+def _population_plans(plan: TripPlanResult, robust_result: RobustResult | None) -> dict:
+    """The plans a population run reports: the recommendation, the robust plan, no plan."""
+    chosen = plan.recommended.outcome
+    intended = plan.strategy if plan.strategy in ("advance", "delay") else "none"
+    named = {"recommended": (chosen.plan, intended, chosen.aim)}
+    if robust_result is not None:
+        named["robust"] = (robust_result.plan, robust_result.strategy, "route")
+    shorter = shorter_way(plan.alternatives)
+    named["no_plan"] = (plan.baseline.plan, shorter[0] if shorter else intended, "route")
+    return named
+
+
+def _days_value(value: float) -> float | None:
+    return float(value) if math.isfinite(value) else None
+
+
+def _stats_entry(trip: Trip, stats: PlanStats) -> dict[str, Any]:
+    return {
+        "aim": stats.aim,
+        "intended_direction": stats.intended,
+        "by_day": stats.by_day,
+        "probability_by_day_k": _number(stats.probability),
+        "probability_by_stay_end": _number(stats.probability_by_stay_end),
+        "probability_by_day": [_number(p) for p in stats.probability_by_day],
+        "days": {"p10": _days_value(stats.days_p10), "median": _days_value(stats.days_median),
+                 "p90": _days_value(stats.days_p90)},
+        "wrong_direction_fraction": _number(stats.wrong_direction),
+        "cbtmin": [{"date": d.isoformat(), "p10": _number(stats.cbtmin_clock["p10"][k]),
+                    "median": _number(stats.cbtmin_clock["median"][k]), "p90": _number(stats.cbtmin_clock["p90"][k])}
+                   for k, d in enumerate(stats.cbtmin_dates)],
+    }
+
+
+def _starting_entry(start: StartingPhase) -> dict[str, Any]:
+    return {"source": start.source, "description": start.description,
+            "dlmo_clock_h": _number(start.dlmo_clock_h[0]), "dlmo_clock": _clock(start.dlmo_clock_h[0]),
+            "light_log_findings": [f.as_dict() for f in start.findings]}
+
+
+def _population_entry(trip: Trip, people: int, seed: int, evidence, population) -> dict[str, Any] | None:
+    if population is None:
+        return None
+    stats, starting = population
+    return {
+        "n": people,
+        "seed": seed,
+        "distribution": {**distribution_spec(evidence),
+                         "starting_phase": {"source": starting.source, "extra_sd_h": starting.phase_sd_h}},
+        "plans": {name: _stats_entry(trip, value) for name, value in stats.items()},
+        "conventions": {
+            "days": "days after the arrival day until CBTmin stays within 1 h of the person's own target; "
+                    "null when that share of people does not re-entrain within the time away",
+            "probability_by_day": "fraction re-entrained by each day of the time away (index 0 = arrival day)",
+            "wrong_direction_fraction": "fraction whose clock moved the other way than the plan intends",
+            "cbtmin": "10th, 50th and 90th percentile of CBTmin per day, hours of the local clock of the place "
+                      "the day aims at; may lie outside 0-24 where the fan crosses midnight",
+        },
+    }
+
+
+def _robust_entry(trip: Trip, result: RobustResult | None, plan: TripPlanResult) -> dict[str, Any] | None:
+    if result is None:
+        return None
+    return {
+        "strategy": result.strategy,
+        "improved": bool(result.improved),
+        "search_people": result.people,
+        "simulated": result.simulated,
+        "search": {"robust": _stats_entry(trip, result.search), "average_person_plan": _stats_entry(trip, result.seed_search)},
+        "average_person": _outcome_entry(result.outcome, plan.alternatives),
+        "days": [_day_entry(trip, view) for view in day_views(trip, result.outcome)],
+    }
+
+
+def _ensemble_entry(trip: Trip, ensemble: EnsembleResult | None) -> dict[str, Any] | None:
+    if ensemble is None:
+        return None
+    members = []
+    for member in ensemble.members:
+        outcome = member.outcome
+        members.append({"model": member.model.id, "citation": member.model.citation,
+                        "reentrainment_days": outcome.reentrainment_days if outcome.aim == "route" else None,
+                        "direction": outcome.direction, "net_shift_h": _number(outcome.net_shift_h),
+                        "starting_dlmo_clock": _clock(member.starting.dlmo_clock_h[0]),
+                        "cbtmin": [_local_iso(trip, d.cbtmin) if d.cbtmin is not None else None for d in outcome.days],
+                        "phase_error_h": [_number(d.error_h) for d in outcome.days]})
+    return {"models": members, "cbtmin_range_h": [_number(v) for v in ensemble.cbtmin_range_h],
+            "disagreements": list(ensemble.disagreements)}
+
+
+def _percent(value: float) -> str:
+    return f"{100 * value:.0f} %"
+
+
+def _days_range(stats: PlanStats) -> str:
+    text = [("—" if not math.isfinite(v) else f"{v:.0f}") for v in (stats.days_p10, stats.days_median, stats.days_p90)]
+    return " / ".join(text)
+
+
+def _print_starting(console: Console, start: StartingPhase) -> None:
+    rows = [("evidence", escape(start.description)),
+            ("DLMO", f"[bold]{_clock(start.dlmo_clock_h[0])}[/bold] home clock on the first planned day "
+                     "(habits kept)")]
+    rows += [("light log", escape(f.message)) for f in start.findings]
+    _print_facts(console, "Starting phase", rows)
+
+
+def _population_table(rows: list[tuple[str, PlanStats]], caption: str) -> Table:
+    table = Table(box=box.SIMPLE_HEAD, caption=caption, caption_justify="left")
+    for header in ("plan", "re-entrained by stay end", "by day k", "days p10 / median / p90", "wrong way"):
+        table.add_column(header, no_wrap=True)
+    for name, stats in rows:
+        table.add_row(escape(name), _percent(stats.probability_by_stay_end),
+                      f"{_percent(stats.probability)} (k = {stats.by_day})", _days_range(stats),
+                      _percent(stats.wrong_direction))
+    return table
+
+
+def _print_population(console: Console, people: int, seed: int, population) -> None:
+    stats, starting = population
+    labels = {"recommended": "recommended (average person)", "robust": "robust", "no_plan": "no plan"}
+    caption = (f"{people:,} simulated people (seed {seed}): intrinsic period and light sensitivity drawn per "
+               f"person, starting phase from the evidence (extra SD {starting.phase_sd_h:g} h). Days after the "
+               "arrival day until CBTmin stays within 1 h of the person's own target; — : that share does not "
+               "re-entrain within the stay. wrong way: the clock moved the other way than intended.")
+    table = _population_table([(labels.get(k, k), v) for k, v in stats.items()], caption)
+    console.print(Panel(table, title="How likely the plan works", title_align="left"))
+
+
+def _print_robust(console: Console, trip: Trip, result: RobustResult, plan: TripPlanResult) -> None:
+    views = day_views(trip, result.outcome)
+    console.print(_day_table(trip, views, f"Robust plan: {escape(strategy_name(result.strategy))}"))
+    caption = (f"Scored over the search population of {result.people} simulated people; the robust plan "
+               "maximises the share re-entrained by day k and penalises a clock moving the wrong way.")
+    table = _population_table([("average-person plan", result.seed_search), ("robust plan", result.search)], caption)
+    console.print(Panel(table, title="Robust plan beside the average-person plan", title_align="left"))
+    if not result.improved:
+        console.print("  the search found no plan that does better over the population than the average-person "
+                      "plan: it is kept as the robust plan")
+    console.print(f"  robust plan for the average person: {days_text(result.outcome.reentrainment_days)}, "
+                  f"{result.outcome.box_minutes:.0f} min of light box; {result.simulated:,} person-schedules "
+                  "simulated")
+
+
+def _print_ensemble(console: Console, trip: Trip, ensemble: EnsembleResult) -> None:
+    table = Table(box=box.SIMPLE_HEAD)
+    for header in ("model", "starting DLMO", "re-entrains", "body clock"):
+        table.add_column(header, no_wrap=header != "body clock")
+    for member in ensemble.members:
+        outcome = member.outcome
+        settles = (f"held within {outcome.max_away_error_h:.1f} h of home time" if outcome.aim == "home"
+                   else days_text(outcome.reentrainment_days))
+        table.add_row(escape(member.model.id), _clock(member.starting.dlmo_clock_h[0]), settles,
+                      escape(movement(outcome, {})))
+    console.print(Panel(table, title="The recommended plan under each model", title_align="left"))
+    if ensemble.disagreements:
+        for note in ensemble.disagreements:
+            console.print(f"  [yellow]models disagree:[/yellow] {escape(note)}")
+    else:
+        console.print("  the models agree within 1 h on every day's CBTmin and on the days to re-entrain")
 
 
 ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
@@ -898,7 +1173,8 @@ def check(path: CheckArgument, json_out: JsonOption = False) -> None:
     summary = {"name": info.name, "model": info.model, "round_trip": info.round_trip,
                "clock_change_h": _number(clock_change_h(trip)),
                "start": _local_iso(trip, trip.start), "end": _local_iso(trip, trip.end), "days": len(days),
-               "preparation_days": trip.preparation_days, "flights": flights, "busy": len(trip.busy)}
+               "preparation_days": trip.preparation_days, "flights": flights, "busy": len(trip.busy),
+               "person": _person_entry(info.person)}
     if json_out:
         _emit_json({"command": "check", "valid": True, "problems": [], "summary": summary})
         return
@@ -911,7 +1187,9 @@ def check(path: CheckArgument, json_out: JsonOption = False) -> None:
                               f"{'east' if summary['clock_change_h'] > 0 else 'west'} at the first arrival"),
              ("planned", f"{_wall(trip, trip.start)} to {_wall(trip, trip.end)} ({len(days)} days, "
                          f"{trip.preparation_days} of preparation)"),
-             ("busy periods", str(len(trip.busy))), ("model", escape(info.model))]
+             ("busy periods", str(len(trip.busy))), ("model", escape(info.model)),
+             ("starting phase", {"dlmo": "measured DLMO", "light_log": "light log",
+                                 "habitual": "habitual sleep and typical light"}[info.person.source])]
     _print_facts(console, None, rows)
 
 
@@ -919,11 +1197,13 @@ def check(path: CheckArgument, json_out: JsonOption = False) -> None:
     "Plan light and sleep for a trip across time zones: a day-by-day table on the local clock, the advance, "
     "delay and no-plan comparison, the recommendation and the cautions."))
 def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoice.auto, model_name: TripModelOption = None,
-                 json_out: JsonOption = False, ics: IcsOption = None, report: ReportOption = None,
-                 chart: ChartOption = None, force: ForceOption = False,
-                 alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES, no_alarms: NoAlarmsOption = False) -> None:
+                 people: PeopleOption = 0, seed: SeedOption = 0, robust: RobustOption = False,
+                 models_list: ModelsOption = None, by_day: ByDayOption = None, json_out: JsonOption = False,
+                 ics: IcsOption = None, report: ReportOption = None, chart: ChartOption = None,
+                 force: ForceOption = False, alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
+                 no_alarms: NoAlarmsOption = False) -> None:
     """Plan a trip scenario (help text on the decorator)."""
-    _run_trip("trip", path, strategy, model_name, json_out,
+    _run_trip("trip", path, strategy, model_name, json_out, people, seed, robust, models_list, by_day,
               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
 
 
@@ -934,6 +1214,11 @@ def demo(
     name: Annotated[str | None, typer.Argument(metavar="[NAME]", help="Demo trip or roster name (see --list).")] = None,
     strategy: StrategyOption = StrategyChoice.auto,
     model_name: TripModelOption = None,
+    people: PeopleOption = 0,
+    seed: SeedOption = 0,
+    robust: RobustOption = False,
+    models_list: ModelsOption = None,
+    by_day: ByDayOption = None,
     list_demos: Annotated[bool, typer.Option("--list", help="List the demo trips and exit.")] = False,
     json_out: JsonOption = False,
     ics: IcsOption = None,
@@ -964,7 +1249,7 @@ def demo(
         run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out,
                    PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
         return
-    _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out,
+    _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out, people, seed, robust, models_list, by_day,
               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
 
 

@@ -158,6 +158,15 @@ def _classify(wall: datetime, tz: tzinfo):
     return "unique", candidates
 
 
+def classify_wall_time(wall: datetime, tz: tzinfo) -> tuple[str, tuple[datetime, datetime]]:
+    """Whether a naive local wall time is ``"unique"``, in a spring-forward ``"gap"`` or
+    ``"repeated"`` (fall back) in ``tz``, with its two aware readings (fold 0, fold 1).
+
+    For readers of machine logs, which must decide row by row instead of refusing the file.
+    """
+    return _classify(wall.replace(tzinfo=None, fold=0), tz)
+
+
 def _gap_message(wall: datetime, tz: tzinfo, candidates) -> str:
     utc = sorted(c.astimezone(UTC) for c in candidates)
     label = _zone_label(tz)

@@ -385,9 +385,31 @@ def _trip_events(trip: Trip, views: list[DayView], strategy: str) -> list[PlanEv
     return sorted(events, key=lambda e: (e.start, e.kind))
 
 
-def _trip_days(trip: Trip, views: list[DayView]) -> list[DayRow]:
+def _trip_bands(trip: Trip, views: list[DayView], fan: dict | None) -> list:
+    """A population's CBTmin fan per day moved onto each row's clock: (p10, median, p90) [h] or None.
+
+    The fan is on the clock of the day's target place (:class:`planner.robust.PlanStats`); the row shows
+    the clock of where the traveller is at the day's start.
+    """
+    if fan is None:
+        return [None] * len(views)
+    bands = []
+    for k, view in enumerate(views):
+        values = [float(fan[key][k]) for key in ("p10", "median", "p90")] if k < len(fan["median"]) else []
+        if len(values) != 3 or not all(math.isfinite(v) for v in values):
+            bands.append(None)
+            continue
+        moment = view.day.start
+        shift = (moment.astimezone(view.day.place.zone).utcoffset()
+                 - moment.astimezone(view.target_place.zone).utcoffset()).total_seconds() / 3600.0
+        bands.append(tuple(v + shift for v in values))
+    return bands
+
+
+def _trip_days(trip: Trip, views: list[DayView], fan: dict | None = None) -> list[DayRow]:
     rows = []
-    for view in views:
+    bands = _trip_bands(trip, views, fan)
+    for view, band in zip(views, bands):
         day = view.day
         start = local(trip, day.start)
         text = zone_label(start)
@@ -402,7 +424,7 @@ def _trip_days(trip: Trip, views: list[DayView]) -> list[DayRow]:
         place = day.place.name if day.end_place == day.place else f"{day.place.name} → {day.end_place.name}"
         marker_zone = place_at(trip, view.cbtmin).zone if view.cbtmin is not None else None
         rows.append(DayRow(day.local_date, day.place.zone, text, day.kind, place, view.cbtmin, target,
-                           view.target_place.name, float(view.error_h), cbtmin_zone=marker_zone))
+                           view.target_place.name, float(view.error_h), band=band, cbtmin_zone=marker_zone))
     return rows
 
 
@@ -417,7 +439,7 @@ def _comparison(plan: TripPlanResult) -> tuple[list[dict], int]:
 
 
 def document_from_trip(trip: Trip, info: ScenarioInfo, plan: TripPlanResult,
-                       views: list[DayView] | None = None) -> PlanDocument:
+                       views: list[DayView] | None = None, population=None) -> PlanDocument:
     """A trip plan as a :class:`PlanDocument`.
 
     Parameters
@@ -429,6 +451,10 @@ def document_from_trip(trip: Trip, info: ScenarioInfo, plan: TripPlanResult,
         The planner's result; its recommended plan becomes the events.
     views : list of DayView, optional
         ``day_views(trip, plan.recommended.outcome)`` when the caller has it already.
+    population : tuple, optional
+        ``(stats, starting)`` from :func:`planner.robust.population_report`; the recommended plan's
+        CBTmin fan becomes each day's ``band`` (the report draws it) and its success figures join the
+        summary.
 
     Returns
     -------
@@ -451,9 +477,17 @@ def document_from_trip(trip: Trip, info: ScenarioInfo, plan: TripPlanResult,
         ("result", plan.message),
     ]
     comparison, recommended = _comparison(plan)
+    fan = None
+    if population is not None:
+        stats = population[0].get("recommended")
+        if stats is not None:
+            fan = stats.cbtmin_clock
+            summary.append(("population", f"{stats.size} simulated people: {stats.probability_by_stay_end:.0%} "
+                                          f"re-entrained before the time away ends; {stats.wrong_direction:.0%} "
+                                          "moved the other way than intended"))
     return PlanDocument(
         plan_id=trip_plan_id(info), title=info.name, summary=tuple(summary),
-        events=tuple(_trip_events(trip, views, plan.strategy)), days=tuple(_trip_days(trip, views)),
+        events=tuple(_trip_events(trip, views, plan.strategy)), days=tuple(_trip_days(trip, views, fan)),
         comparison=tuple(comparison), recommended=recommended, cautions=tuple(cautions_for(TRIP_CAUTIONS)),
         citations=tuple(plan.citations) + (PRC_CITATION,), kind="trip", message=plan.message,
         context=tuple(Period(f"flight {f.origin.name} → {f.destination.name}", f.depart, f.arrive, f.origin.zone)

@@ -52,6 +52,17 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     end = "2027-03-12 17:00"
     label = "conference"
 
+    [person]                              # optional: evidence of the traveller's own clock
+    dlmo = "21:15"                        # measured DLMO, local home clock
+    dlmo_date = 2027-03-05                # the evening it was measured (default: just before the plan)
+    dlmo_sd_min = 30                      # its uncertainty (default 30 min)
+    light_log = "week.csv"                # a wearable light meter's CSV, relative to this file
+    light_log_time_zone = "Europe/Lisbon" # zone of time stamps without a UTC offset (default: home)
+    tau_h = 24.4                          # measured intrinsic period [h]
+
+A measured DLMO is preferred to a light log, and a light log to the habitual sleep
+(:mod:`planner.evidence`).
+
 The planned period
 ------------------
 It starts at home midnight ``preparation_days`` before the first departure
@@ -77,6 +88,7 @@ from typing import Literal
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from planner import tomlfile
+from planner.evidence import DLMO_SD_MIN, NO_EVIDENCE, PersonEvidence
 from planner.shipped import shipped_toml_files
 from planner.errors import InputError
 from planner.localtime import local_day_bounds, parse_clock, resolve_local, to_utc, zone
@@ -199,6 +211,32 @@ class BusyEntry(_Strict):
     end_fold: Literal[0, 1] | None = None
 
 
+#: Accepted measured intrinsic periods [h]: sighted adults lie within about 23.5-24.7 h (Duffy et
+#: al. 2011, PNAS 108:15602, range of n = 157); a wider margin allows for unusual people.
+TAU_RANGE_H = (23.0, 25.5)
+
+
+class PersonEntry(_Strict):
+    """Evidence of the traveller's own clock (all optional)."""
+
+    dlmo: str | None = None
+    dlmo_date: date | None = None
+    dlmo_sd_min: float = Field(DLMO_SD_MIN, gt=0.0, le=180.0, allow_inf_nan=False)
+    light_log: str | None = Field(None, min_length=1)
+    light_log_time_zone: str | None = None
+    tau_h: float | None = Field(None, gt=TAU_RANGE_H[0], lt=TAU_RANGE_H[1], allow_inf_nan=False)
+
+    @field_validator("dlmo")
+    @classmethod
+    def _clock(cls, value: str | None) -> str | None:
+        return None if value is None else _checked(parse_clock, value)
+
+    @field_validator("light_log_time_zone")
+    @classmethod
+    def _zone(cls, value: str | None) -> str | None:
+        return None if value is None else _checked(zone, value).strip()
+
+
 class TripFile(_Strict):
     """The whole scenario file (see the module docstring)."""
 
@@ -213,6 +251,7 @@ class TripFile(_Strict):
     flights: list[FlightEntry] = Field(min_length=1)
     light: LightEntry = Field(default_factory=LightEntry)
     busy: list[BusyEntry] = Field(default_factory=list)
+    person: PersonEntry | None = None
 
 
 @dataclass(frozen=True)
@@ -229,6 +268,8 @@ class ScenarioInfo:
         The scenario file.
     round_trip : bool
         Whether the last flight lands at home.
+    person : PersonEvidence
+        The ``[person]`` table (light-log path made absolute); empty without one.
     """
 
     name: str
@@ -236,6 +277,7 @@ class ScenarioInfo:
     model: str
     path: str
     round_trip: bool = False
+    person: PersonEvidence = NO_EVIDENCE
 
 
 class _Problems:
@@ -420,8 +462,24 @@ def _build(spec: TripFile, text: str, path: Path) -> tuple[Trip, ScenarioInfo]:
     if busy:
         trip = Trip(trip.name, trip.home, trip.flights, trip.preparation_days, trip.max_shift_h_per_day,
                     trip.end, trip.light, tuple(sorted(busy, key=lambda b: b.start)))
-    info = ScenarioInfo(spec.name, spec.description, model, str(path), round_trip)
+    info = ScenarioInfo(spec.name, spec.description, model, str(path), round_trip, _person(spec.person, path, problems))
+    problems.raise_if_any()
     return trip, info
+
+
+def _person(entry: PersonEntry | None, path: Path, problems: _Problems) -> PersonEvidence:
+    if entry is None:
+        return NO_EVIDENCE
+    log = None
+    if entry.light_log is not None:
+        candidate = Path(entry.light_log)
+        candidate = (candidate if candidate.is_absolute() else path.parent / candidate).resolve()
+        if not candidate.is_file():
+            problems.add(("person", "light_log"), f'no light-log file "{entry.light_log}" (a relative path is read '
+                                                  "from the scenario's folder)")
+        log = str(candidate)
+    return PersonEvidence(None if entry.dlmo is None else parse_clock(entry.dlmo), entry.dlmo_date,
+                          float(entry.dlmo_sd_min), log, entry.light_log_time_zone, entry.tau_h)
 
 
 def _end_of_day_after(arrival: datetime, place: Place, days: int) -> datetime:

@@ -29,7 +29,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from datetime import datetime, timedelta
-from typing import Literal, Sequence
+from typing import Callable, Literal, Sequence
 
 import numpy as np
 from scipy.optimize import differential_evolution
@@ -142,6 +142,9 @@ class Evaluator:
     simulated: int = 0
     #: Step used while searching [min]; None = the model file's validated step.
     search_step_minutes: float | None = None
+    #: State at ``trip.start``, shape (3,) (e.g. from a measured DLMO or a light log,
+    #: :mod:`planner.evidence`); None = entrained to the habitual home day.
+    initial_state: np.ndarray | None = None
 
     def __post_init__(self):
         self.targets_ = targets(self.trip, self.model)
@@ -156,6 +159,25 @@ class Evaluator:
                 raise ComputationError(f"cannot entrain to the day at {place.name}: {steady.message}")
             self.target_clock[place.name] = float(steady.cbtmin_clock_h[0])
         self.reference_amplitude = float(self.model.family.amplitude(self.targets_.initial_state[:2])[0])
+        self.start_cbtmin_h = self.targets_.home_cbtmin_h
+        if self.initial_state is None:
+            self.initial_state = self.targets_.initial_state
+        else:
+            self.start_cbtmin_h = self._first_home_cbtmin(np.asarray(self.initial_state, dtype=float).reshape(3))
+        self.initial_state = np.asarray(self.initial_state, dtype=float).reshape(3)
+
+    def _first_home_cbtmin(self, state: np.ndarray) -> float:
+        """CBTmin [h of the home clock] of a traveller starting from ``state`` who keeps the habitual
+        home day for the first day and a half (the phase the evidence gives)."""
+        from planner.trip import place_pattern
+        end = self.trip.start + timedelta(hours=36)
+        day = place_pattern(self.trip.home, self.trip.light).schedule(self.trip.start.astimezone(self.trip.home.zone), 2)
+        result = simulate(self.model, day, state, start=self.trip.start, end=end)
+        markers = cbtmin_times(result)[0] if result.success else np.zeros(0)
+        if markers.size == 0:
+            return self.targets_.home_cbtmin_h
+        local = (self.trip.start + timedelta(hours=float(markers[0]))).astimezone(self.trip.home.zone)
+        return local.hour + local.minute / 60 + local.second / 3600
 
     def arrival_index(self) -> int:
         return next(d.index for d in self.days if d.kind == "travel")
@@ -175,7 +197,7 @@ class Evaluator:
         """Simulate plans in one batch: at the search step, or with ``final`` at the model's own step."""
         schedules = [plan_schedule(self.trip, plan) for plan in plans]
         step = None if final else self.search_step_minutes
-        result = simulate(self.model, schedules, self.targets_.initial_state, start=self.trip.start, end=self.trip.end,
+        result = simulate(self.model, schedules, self.initial_state, start=self.trip.start, end=self.trip.end,
                           step_minutes=step)
         if not result.success:
             raise ComputationError(result.message)
@@ -207,14 +229,25 @@ class Evaluator:
         settled = reentrainment(np.asarray(stay), 0.0, REENTRAINMENT_TOLERANCE_H)
         net = _net_shift_h([o.cbtmin for o in day_outcomes[:back]])
         direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
-        days_needed = settled.day if settled.day is not None else len(stay) + 5
-        residual = float(np.nanmean(np.abs(stay))) if np.any(np.isfinite(stay)) else 12.0
-        score = (days_needed + 0.05 * residual + BOX_MINUTE_PENALTY_DAYS * plan.box_minutes
-                 + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(self.trip, plan))
+        score = person_score(settled.day, np.asarray(stay)) + plan_burden_days(self.trip, plan)
         finite = [abs(e) for e in stay if math.isfinite(e)]
         largest = max(finite) if finite else math.nan
         return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
 
+
+
+def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
+    """One person's score of a plan before its burden, in days (lower is better): the days to
+    re-entrain (the days away + 5 when never) plus a twentieth of the mean |error| while away, so
+    that among plans re-entraining on the same day the one ending closer to the target wins."""
+    days_needed = days if days is not None else len(stay_errors_h) + 5
+    residual = float(np.nanmean(np.abs(stay_errors_h))) if np.any(np.isfinite(stay_errors_h)) else 12.0
+    return days_needed + 0.05 * residual
+
+
+def plan_burden_days(trip: Trip, plan: Plan) -> float:
+    """The burden of a plan in days of re-entrainment: light-box minutes and sleep displacement."""
+    return BOX_MINUTE_PENALTY_DAYS * plan.box_minutes + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(trip, plan)
 
 
 def _net_shift_h(cbtmins: Sequence[datetime | None]) -> float:
@@ -237,7 +270,7 @@ def _sleep_displacement_h(trip: Trip, plan: Plan) -> float:
 
 def required_shift_h(trip: Trip, evaluator: Evaluator, strategy: Strategy) -> float:
     """How far the clock must move in the strategy's direction [h, positive]."""
-    home_clock = evaluator.targets_.home_cbtmin_h
+    home_clock = evaluator.start_cbtmin_h   # the traveller's own phase when evidence gives one
     dest = trip.destination
     dest_clock = evaluator.target_clock[dest.name]
     # Home CBTmin expressed on the destination clock at arrival, vs the destination target.
@@ -317,10 +350,11 @@ def _lattice(moment: datetime) -> datetime:
 class TripPlanner:
     """Plans one trip under one model (see the module docstring)."""
 
-    def __init__(self, trip: Trip, model: ModelSpec):
+    def __init__(self, trip: Trip, model: ModelSpec, initial_state: np.ndarray | None = None):
         self.trip = trip
         self.model = model
-        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes))
+        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
+                                   initial_state=initial_state)
         self.days = self.evaluator.days
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
@@ -462,18 +496,28 @@ class TripPlanner:
         return BOX_MINUTE_PENALTY_DAYS * outcome.box_minutes
 
     def refine(self, strategy: Strategy, choices: list[DayChoice], anchors, seed: int = 0,
-               maxiter: int = 12, popsize: int = 6) -> tuple[list[DayChoice], Outcome]:
-        """Differential evolution over every day's windows, seeded with ``choices``."""
+               maxiter: int = 12, popsize: int = 6,
+               score_plans: Callable[[list[Plan]], np.ndarray] | None = None,
+               init_spread: float = 0.15,
+               extra_seeds: Sequence[Sequence[DayChoice]] = ()) -> tuple[list[DayChoice], Outcome]:
+        """Differential evolution over every day's windows, seeded with ``choices``.
+
+        ``score_plans`` scores a batch of plans (lower is better); default: the average
+        person's :attr:`Outcome.score` (a population's robust score in :mod:`planner.robust`).
+        """
         sign = 1.0 if strategy == "advance" else -1.0
         active = [i for i, a in enumerate(anchors) if a is not None]
         bounds = []
         for _ in active:
             bounds += [(-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, 2.0), (-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, MAX_AVOIDANCE_H)]
-        base_vector = []
-        for i in active:
-            c = choices[i]
-            base_vector += [c.bright_offset_h, c.bright_hours, c.avoid_offset_h, c.avoid_hours]
-        base_vector = np.clip(np.asarray(base_vector), [b[0] for b in bounds], [b[1] for b in bounds])
+        def encode(days):
+            vector = []
+            for i in active:
+                c = days[i]
+                vector += [c.bright_offset_h, c.bright_hours, c.avoid_offset_h, c.avoid_hours]
+            return np.clip(np.asarray(vector, dtype=float), [b[0] for b in bounds], [b[1] for b in bounds])
+
+        base_vector = encode(choices)
 
         def decode(vector):
             new = list(choices)
@@ -487,15 +531,19 @@ class TripPlanner:
         def objective(population):
             members = population.T
             plans = [self.build(decode(v), anchors, strategy) for v in members]
+            if score_plans is not None:
+                return np.asarray(score_plans(plans), dtype=float)
             return np.array([o.score for o in self.evaluator.evaluate(plans)])
 
         rng = np.random.default_rng(seed)
         count = max(5, popsize * len(bounds))
         count = min(count, 60)
-        spread = np.array([b[1] - b[0] for b in bounds]) * 0.15
+        spread = np.array([b[1] - b[0] for b in bounds]) * init_spread   # of each range, around the seed
         init = np.clip(base_vector + rng.normal(size=(count, len(bounds))) * spread,
                        [b[0] for b in bounds], [b[1] for b in bounds])
         init[0] = base_vector
+        for row, extra in enumerate(extra_seeds[:count - 1], start=1):   # other starting plans, e.g. variants
+            init[row] = encode(extra)
         result = differential_evolution(objective, bounds, init=init, maxiter=maxiter, vectorized=True,
                                         updating="deferred", polish=False, seed=seed, tol=1e-6)
         refined = decode(result.x)
@@ -539,6 +587,9 @@ class StrategyResult:
     greedy_score: float
     refined: bool
     required_shift_h: float
+    #: The day choices and anchors the plan was built from (a start for further searches).
+    choices: tuple = ()
+    anchors: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -584,7 +635,8 @@ def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) ->
     outcome = refined_outcome if better else greedy_outcome
     outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
     return StrategyResult(strategy, outcome, greedy_outcome.score, better,
-                          required_shift_h(planner.trip, planner.evaluator, strategy))
+                          required_shift_h(planner.trip, planner.evaluator, strategy),
+                          tuple(refined_choices if better else choices), tuple(anchors))
 
 
 def _days_or_inf(outcome: Outcome) -> float:
@@ -642,7 +694,7 @@ def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str |
 
 
 def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance", "delay"] = "auto",
-              *, seed: int = 0) -> TripPlanResult:
+              *, seed: int = 0, initial_state: np.ndarray | None = None) -> TripPlanResult:
     """Plan a trip: baseline, the requested strategies, and a recommendation.
 
     With ``strategy="auto"`` on a short trip back home (see :func:`_home_time_wanted`),
@@ -651,8 +703,11 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
 
     An infeasible target is not an error: the best plan found is returned with
     ``success`` False and a message saying how far it falls short.
+
+    ``initial_state`` (shape (3,)) is the traveller's state at ``trip.start`` from evidence
+    (:func:`planner.evidence.starting_phase`); default entrained to the habitual home day.
     """
-    planner = TripPlanner(trip, model)
+    planner = TripPlanner(trip, model, initial_state)
     baseline = planner.baseline()
     wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
     results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}

@@ -18,6 +18,36 @@ MODELS = ("forger1999", "jewett1999", "hannay2019")
 T0 = datetime(2027, 1, 4, tzinfo=timezone.utc)
 
 
+def lisbon_trip_toml(destination: str, time_zone: str, latitude: float, longitude: float, *, stay_days: int,
+                     preparation_days: int, depart: str, arrive: str, extra: str = "") -> str:
+    """A one-way trip file for an invented tester flying from Lisbon (sleep 23:00-07:00), plus ``extra`` tables."""
+    return f"""\
+kind = "trip"
+name = "Invented tester: Lisbon to {destination}"
+model = "forger1999"
+[traveller]
+sleep = {{ bed = "23:00", wake = "07:00" }}
+preparation_days = {preparation_days}
+[home]
+name = "Lisbon"
+time_zone = "Europe/Lisbon"
+latitude = 38.72
+longitude = -9.14
+[destination]
+name = "{destination}"
+time_zone = "{time_zone}"
+latitude = {latitude}
+longitude = {longitude}
+stay_days = {stay_days}
+[[flights]]
+from = "home"
+to = "destination"
+depart = "{depart}"
+arrive = "{arrive}"
+{extra}
+"""
+
+
 def at(hours: float) -> datetime:
     """``T0`` plus ``hours`` of real time."""
     return T0 + timedelta(hours=hours)
