@@ -25,14 +25,15 @@ from planner.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.cli import (DEFAULT_ALARM_MINUTES, NONE_TEXT, AlarmOption, ChartOption, ForceOption, GroupOption,
                          IcsOption, JsonOption, NoAlarmsOption, PlanFiles, ReportOption, _citation_entry, _emit_json,
                          _lux, _model_entry, _number, _print_citations, _print_facts, _print_written, _stderr,
-                         _window_entry, app, write_plan_files)
+                         _model_list, _window_entry, app, write_plan_files)
 from planner.errors import InputError
 from planner.parameters import ModelSpec, load_model
 from planner.population import DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H
 from planner.roster import Roster
 from planner.rosterfile import OFF, RosterInfo, load_roster
-from planner.rosterplan import (LOW_HALF_WIDTH_H, SHORT_NAMES, STRATEGY_NAMES, DraftResult, Metrics, RosterResult,
-                                StrategyOutcome, describe_settings, plan_roster)
+from planner.rosterplan import (ENSEMBLE_TOLERANCE_H, LOW_HALF_WIDTH_H, SHORT_NAMES, STRATEGY_NAMES, DraftResult,
+                                Metrics, RosterEnsemble, RosterResult, StrategyOutcome, describe_settings, plan_roster,
+                                roster_ensemble)
 from planner.rosterview import RosterDayView, chart_legend, day_views, document_from_roster, text_chart
 from planner.trip import Window
 
@@ -119,6 +120,34 @@ def _population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | N
     }
 
 
+def _robust_entry(chosen: DraftResult) -> dict[str, Any] | None:
+    robust = chosen.robust
+    if robust is None:
+        return None
+    return {"draft": chosen.draft.name, "workers": robust.people, "candidates": robust.candidates,
+            "changed": robust.changed, "strategy": robust.outcome.strategy,
+            "settings_text": describe_settings(robust.outcome.plan),
+            "population_mean_score_h_per_week": _number(robust.mean_score),
+            "population_p90_score_h_per_week": _number(robust.p90_score),
+            "average_worker_plan": {"strategy": chosen.chosen,
+                                    "settings_text": describe_settings(chosen.strategies[chosen.chosen].plan),
+                                    "population_mean_score_h_per_week": _number(robust.average_mean_score),
+                                    "population_p90_score_h_per_week": _number(robust.average_p90_score)},
+            "average_worker_score_h_per_week": _number(robust.outcome.score)}
+
+
+def _ensemble_entry(roster: Roster, ensemble: RosterEnsemble | None) -> dict[str, Any] | None:
+    if ensemble is None:
+        return None
+    days = ensemble.members[0].metrics.cbtmin.shape[1]
+    return {"tolerance_h": ENSEMBLE_TOLERANCE_H,
+            "members": [{"model": m.model.id, "disruption_score_h_per_week": _number(m.metrics.score[0]),
+                         "night_runs_not_adapted": _unadapted_runs(m.metrics, "night")[0]}
+                        for m in ensemble.members],
+            "disagree_days": ensemble.disagree_days,
+            "cbtmin_spread_h": [_number(ensemble.spread_h[d]) for d in range(days)]}
+
+
 def _day_entry(roster: Roster, view: RosterDayView) -> dict[str, Any]:
     day = view.day
     return {
@@ -175,14 +204,14 @@ def _document(roster: Roster, info: RosterInfo, model: ModelSpec, result: Roster
             "pattern": [code if code is not None else OFF for code in d.draft.pattern],
             "cycles": d.draft.cycles,
             "days": len(d.days),
-            "chosen_strategy": d.chosen,
+            "chosen_strategy": d.best_strategy,
             "rank_score_h_per_week": _number(d.rank_score),
             "plan": _metrics_entry(roster, d, d.best),
             "strategies": {name: _metrics_entry(roster, d, outcome) for name, outcome in d.strategies.items()},
             "no_plan": _metrics_entry(roster, d, d.baseline),
             "population": _population_entry(d, roster),
         } for k, d in enumerate(result.drafts)],
-        "plan": {"draft": chosen.draft.name, "strategy": chosen.chosen,
+        "plan": {"draft": chosen.draft.name, "strategy": chosen.best_strategy,
                  "days": [_day_entry(roster, view) for view in views]},
         "chart": {"legend": chart_legend(), "lines": text_chart(roster, views)},
         "simulated": result.simulated,
@@ -208,7 +237,8 @@ def _score_cell(result: DraftResult) -> str:
 
 
 def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: ModelSpec, result: RosterResult,
-                  chosen: DraftResult, views: list[RosterDayView], workers: int, seed: int) -> None:
+                  chosen: DraftResult, views: list[RosterDayView], workers: int, seed: int,
+                  ensemble: RosterEnsemble | None = None) -> None:
     console.print(f"[bold]{escape(info.name)}[/bold]")
     if info.description:
         console.print(escape(info.description))
@@ -244,7 +274,7 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
         worst = int(m.worst_day[0])
         unadapted, runs = _unadapted_runs(m, "night")
         adapt = _mean_days(m, "night")
-        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.chosen], _score_cell(d),
+        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], _score_cell(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
                         f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
@@ -266,7 +296,24 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
     console.print(Panel(strategies, title=f"Strategies for {escape(chosen.draft.name)} (score h/wk)",
                         title_align="left"))
 
-    table = Table(title=f"Day-by-day plan: {escape(chosen.draft.name)}, {escape(STRATEGY_NAMES[chosen.chosen])}",
+    if chosen.robust is not None:
+        robust = chosen.robust
+        side = Table(box=box.SIMPLE_HEAD)
+        for header in ("plan", "strategy", f"mean over {robust.people} workers", "90th percentile"):
+            side.add_column(header, no_wrap=True)
+        average = chosen.strategies[chosen.chosen]
+        side.add_row("[bold]robust[/bold] ✓", SHORT_NAMES[robust.outcome.strategy], f"{robust.mean_score:.1f}",
+                     f"{robust.p90_score:.1f}")
+        side.add_row("average worker", SHORT_NAMES[average.strategy], f"{robust.average_mean_score:.1f}",
+                     f"{robust.average_p90_score:.1f}")
+        console.print(Panel(side, title="Robust plan beside the average worker's (score h/wk)", title_align="left"))
+        console.print(f"  robust: {escape(describe_settings(robust.outcome.plan))}")
+        console.print(f"  average worker: {escape(describe_settings(average.plan))}")
+        console.print("  " + ("the robust plan is less disruptive on average across workers" if robust.changed else
+                              "no candidate beats the average worker's plan across workers; it is kept"))
+
+    table = Table(title=f"Day-by-day plan: {escape(chosen.draft.name)}, {escape(STRATEGY_NAMES[chosen.best_strategy])}"
+                        + (" (robust)" if chosen.robust is not None else ""),
                   box=box.SIMPLE_HEAD, title_justify="left", caption_justify="left",
                   caption=(f"Times on the site's clock ({escape(str(roster.site.zone))}). light: * bright light "
                            "(light box or daylight), o dark glasses. CBTmin: that of the night after the day; ✓ "
@@ -295,13 +342,36 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
                       f"{pop.score['median']:.1f} [{pop.score['p10']:.1f}–{pop.score['p90']:.1f}] h/wk; "
                       f"work in the low {pop.work_low_h['median']:.1f} h over the draft; "
                       f"night runs never adapted {pop.night_runs_unadapted:.0%}")
+    if ensemble is not None:
+        _print_ensemble(console, roster, chosen, ensemble)
     console.print(f"  {result.simulated:,} light schedules simulated")
 
     console.print("\n[bold]Cautions[/bold]")
     for caution in cautions_for(SHIFT_CAUTIONS):
         console.print(f"  • [bold]{escape(caution.title)}.[/bold] {escape(caution.text)} "
                       f"[dim]({escape('; '.join(caution.sources))})[/dim]")
-    _print_citations(console, [model])
+    _print_citations(console, [model] + ([m.model for m in ensemble.members if m.model.id != model.id]
+                                         if ensemble is not None else []))
+
+
+def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensemble: RosterEnsemble) -> None:
+    table = Table(box=box.SIMPLE_HEAD)
+    for header in ("model", "score h/wk", "night runs unadapted"):
+        table.add_column(header)
+    for member in ensemble.members:
+        unadapted, runs = _unadapted_runs(member.metrics, "night")
+        table.add_row(escape(member.model.id), f"{member.metrics.score[0]:.1f}",
+                      f"{unadapted} of {runs}" if runs else NONE_TEXT)
+    console.print(Panel(table, title=f"The plan for {escape(chosen.draft.name)} under each model", title_align="left"))
+    low, high = ensemble.score_range
+    if ensemble.disagree_days:
+        dates = ", ".join(chosen.days[d].date.strftime("%d %b") for d in ensemble.disagree_days[:8])
+        more = f" and {len(ensemble.disagree_days) - 8} more" if len(ensemble.disagree_days) > 8 else ""
+        console.print(f"  [yellow]models disagree[/yellow] by more than {ENSEMBLE_TOLERANCE_H:g} h on CBTmin on "
+                      f"{len(ensemble.disagree_days)} day(s): {dates}{more}; scores {low:.1f}–{high:.1f} h/wk")
+    else:
+        console.print(f"  the models agree within {ENSEMBLE_TOLERANCE_H:g} h on every day's CBTmin; scores "
+                      f"{low:.1f}–{high:.1f} h/wk")
 
 
 def _source(window: Window) -> str:
@@ -335,6 +405,14 @@ def roster_command(
         help="Model to use instead of the scenario's own (a built-in id or a model .toml file).")] = None,
     draft: Annotated[str | None, typer.Option(
         "--draft", metavar="NAME", help="Show the day-by-day plan of this draft (default: the top-ranked).")] = None,
+    robust: Annotated[bool, typer.Option(
+        "--robust", help=("Score every candidate plan over a population of simulated workers (intrinsic period and "
+                          "light sensitivity drawn) and recommend the least disruptive on average; the average "
+                          "worker's plan is shown beside it."))] = False,
+    models_list: Annotated[str | None, typer.Option(
+        "--models", metavar="LIST", help=("Run the recommended plan under each of these models (comma-separated ids "
+                                          "or files, e.g. forger1999,jewett1999,hannay2019) and show where they "
+                                          "disagree."))] = None,
     json_out: JsonOption = False,
     ics: IcsOption = None,
     report: ReportOption = None,
@@ -346,11 +424,12 @@ def roster_command(
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     run_roster(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out,
-               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group))
+               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group), robust, models_list)
 
 
 def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: str | None, draft: str | None,
-               json_out: bool, files: PlanFiles = PlanFiles()) -> None:
+               json_out: bool, files: PlanFiles = PlanFiles(), robust: bool = False,
+               models_list: str | None = None) -> None:
     """Plan a roster file and print the result (shared by ``roster`` and ``demo``)."""
     roster, info = load_roster(path)
     model = load_model(model_name or info.model)
@@ -360,6 +439,7 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
     if files.group is not None and files.group not in {c.name for c in roster.crews}:
         allowed = ", ".join(f'"{c.name}"' for c in roster.crews) or "none (the file has no [[crews]])"
         raise InputError(f'no crew named "{files.group}"; allowed: {allowed}', field="--group")
+    ensemble_ids = _model_list(models_list)
     files.check()
     console = _stderr()
     with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
@@ -369,17 +449,22 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
         def report(done: int, total: int, label: str) -> None:
             progress.update(task, completed=done, total=total, description=escape(label))
 
-        result = plan_roster(roster, model, strategy, workers=workers, seed=seed, progress=report)
-    chosen = _pick(result, draft)
+        result = plan_roster(roster, model, strategy, workers=workers, seed=seed, robust=robust, progress=report)
+        chosen = _pick(result, draft)
+        ensemble = roster_ensemble(roster, chosen, [load_model(name) for name in ensemble_ids]) if ensemble_ids else None
     views = _views(result, chosen)
     written = write_plan_files(document_from_roster(roster, info, result, chosen, views), files)
     if json_out:
         document = _document(roster, info, model, result, chosen, views, strategy, workers, seed)
+        document["robust"] = _robust_entry(chosen)
+        document["ensemble"] = _ensemble_entry(roster, ensemble)
+        if ensemble is not None:
+            document["citations"] += [_citation_entry(m.model) for m in ensemble.members if m.model.id != model.id]
         if written["ics"] or written["report"] or written["chart"]:
             document["written"] = written
         _emit_json(document)
         return
-    _print_roster(console, roster, info, model, result, chosen, views, workers, seed)
+    _print_roster(console, roster, info, model, result, chosen, views, workers, seed, ensemble)
     _print_written(console, written)
 
 

@@ -40,6 +40,10 @@ DEFAULT_NIGHT_OUTDOOR_LUX = 10.0
 #: from memory; with some 100-300 lux of daylight in a curtained room; a stated default).
 DEFAULT_UNBLOCKED_BEDROOM_LUX = 5.0
 
+#: Hours simulated past the last day's midnight: the last day's markers are counted to 18:00 the next
+#: day, and the CBTmin search needs a step or two beyond (a design margin).
+MARKER_MARGIN_H = 20.0
+
 ShiftKind = Literal["day", "evening", "night"]
 
 
@@ -257,12 +261,13 @@ def _roster_days(roster: Roster, draft: Draft) -> tuple[RosterDay, ...]:
 
 
 def period(roster: Roster, draft: Draft) -> tuple[datetime, datetime]:
-    """Simulated span: local midnight of the first day to local noon after the last day (UTC).
+    """Simulated span: local midnight of the first day to 20:00 the day after the last (UTC).
 
-    The extra half day lets the last day's CBTmin (usually in the early morning) be located.
+    The extra 20 h let the last day's markers, counted up to 18:00 the next day
+    (:data:`planner.rosterplan.DAY_MARKER_FROM_H`), be located.
     """
     days = roster_days(roster, draft)
-    return days[0].start, days[-1].end + timedelta(hours=HOURS_PER_DAY / 2)
+    return days[0].start, days[-1].end + timedelta(hours=MARKER_MARGIN_H)
 
 
 @dataclass(frozen=True)

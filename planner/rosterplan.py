@@ -34,8 +34,10 @@ Metrics (per worker; defined in the README)
 - Sleep out of phase: hours of each sleep outside the biological night of the CBTmin nearest
   the sleep's middle (reported; not in the score, so that a shorter daytime sleep never
   scores better).
-- A day's CBTmin (and DLMO) is that of the night after it: the first from its local noon to the
-  next, so a night shift's day holds the CBTmin that falls during or after that shift.
+- A day's CBTmin (and DLMO) is that of the night after it: the first from 18:00 that day to 18:00
+  the next, so a night shift's day holds the CBTmin that falls during or after that shift.  18:00 lies
+  about 12 h from the habitual CBTmin and several hours past a CBTmin fully adapted to nights (early
+  afternoon), so no plausible CBTmin sits on a boundary.
 - Adapted day: the day's CBTmin falls inside a sleep episode; days to adapt after a switch
   of shift kind (day, evening, night, off): days from the switch to the first adapted day
   of that run, or none within the run.
@@ -61,7 +63,8 @@ from planner.intervals import free_segments
 from planner.light import hours_between
 from planner.markers import HOURS_PER_DAY, cbtmin_times, dlmo_times
 from planner.parameters import ModelSpec
-from planner.population import Population, draw_population, spread
+from planner.population import (LIGHT_SENSITIVITY_SD_LN, REPORTED_PERCENTILES, Population, draw_population,
+                                simulate_population, spread)
 from planner.roster import (Draft, Roster, RosterDay, RosterPlan, ShiftKind, period, roster_days,
                             roster_schedule, sunlit)
 from planner.trip import LightOptions, Window, place_pattern
@@ -90,6 +93,9 @@ LOW_HALF_WIDTH_H = 3.0
 GET_READY_H = 1.0
 #: Time from getting home to sleep [h] (common practice, no single source).
 WIND_DOWN_H = 0.5
+#: A day's markers are the first from this local clock hour that day to the same hour the next [h]
+#: (see the module docstring for why 18:00; a design choice of this planner).
+DAY_MARKER_FROM_H = 18.0
 #: Length of the anchor sleep [h] (Minors & Waterhouse 1981, Int J Chronobiol 7:165; from memory).
 ANCHOR_SLEEP_H = 4.0
 #: Length of the nap before the first night of a run [h] (a prophylactic afternoon nap is common
@@ -360,7 +366,7 @@ class Metrics:
         night, and biological night spent awake.
     cbtmin, dlmo : ndarray, shape (N, D)
         Each day's CBTmin and DLMO [h since the simulation epoch]: those of the night after the day,
-        the first from its local noon to the next; NaN when there is none.
+        the first from 18:00 that day to 18:00 the next; NaN when there is none.
     work_low_day_h : ndarray, shape (N, D)
         Work within ±3 h of CBTmin on each day's shift [h].
     day_burden_h : ndarray, shape (N, D)
@@ -456,11 +462,11 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     cbt = _padded(cbt_list)
     dlmo = _padded(dlmo_times(result, cbt_list))
     starts = np.array([hours_between(epoch, d.start) for d in days])
-    # A day's markers are those of the night after it: the first from its local noon to the next.
-    noons = np.array([hours_between(epoch, roster.at(d.date, 12.0)) for d in days]
-                     + [hours_between(epoch, roster.at(days[-1].date, 36.0))])
-    daily_cbt = _first_in_windows(cbt, noons[:-1], noons[1:])
-    daily_dlmo = _first_in_windows(dlmo, noons[:-1], noons[1:])
+    # A day's markers are those of the night after it: the first from 18:00 that day to 18:00 the next.
+    bounds = np.array([hours_between(epoch, roster.at(d.date, DAY_MARKER_FROM_H)) for d in days]
+                      + [hours_between(epoch, roster.at(days[-1].date, HOURS_PER_DAY + DAY_MARKER_FROM_H))])
+    daily_cbt = _first_in_windows(cbt, bounds[:-1], bounds[1:])
+    daily_dlmo = _first_in_windows(dlmo, bounds[:-1], bounds[1:])
     work_days = [d for d in days if d.work is not None]
     w0 = np.array([hours_between(epoch, d.work[0]) for d in work_days])
     w1 = np.array([hours_between(epoch, d.work[1]) for d in work_days])
@@ -475,9 +481,10 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     adapted = np.zeros((size, len(days)), dtype=bool)
     shared = len(plans) == 1
     # Each CBTmin inside the draft opens a biological night [c + bed offset, c + wake offset].
-    in_draft = (cbt >= noons[0]) & (cbt < noons[-1])
+    in_draft = (cbt >= bounds[0]) & (cbt < bounds[-1])
     night0, night1 = cbt + ref.bed_from_cbtmin_h, cbt + ref.wake_from_cbtmin_h
-    cbt_day = np.clip(np.searchsorted(noons, np.where(in_draft, cbt, noons[0]), side="right") - 1, 0, len(days) - 1)
+    cbt_day = np.clip(np.searchsorted(bounds, np.where(in_draft, cbt, bounds[0]), side="right") - 1, 0,
+                      len(days) - 1)
     for j in range(1 if shared else size):
         plan = plans[j]
         rows = slice(None) if shared else slice(j, j + 1)
@@ -587,8 +594,44 @@ class PopulationSummary:
 
 
 @dataclass(frozen=True)
+class RobustChoice:
+    """The plan that is least disruptive over a search population, beside the average worker's plan.
+
+    Attributes
+    ----------
+    outcome : StrategyOutcome
+        The robust plan, with the average worker's metrics at the validated step.
+    people : int
+        Size of the search population (intrinsic period and light sensitivity drawn).
+    mean_score, p90_score : float
+        The robust plan's disruption score over the search population: mean and 90th percentile [h/wk].
+    average_mean_score, average_p90_score : float
+        The same for the average worker's plan (the plan chosen without ``robust``) [h/wk].
+    candidates : int
+        Plans scored over the population.
+    """
+
+    outcome: StrategyOutcome
+    people: int
+    mean_score: float
+    p90_score: float
+    average_mean_score: float
+    average_p90_score: float
+    candidates: int
+
+    @property
+    def changed(self) -> bool:
+        """Whether the robust plan differs from the average worker's plan."""
+        return self.mean_score < self.average_mean_score - 1e-9
+
+
+@dataclass(frozen=True)
 class DraftResult:
-    """One draft: every strategy's best plan, the chosen one, the baseline and the population."""
+    """One draft: every strategy's best plan, the chosen one, the baseline and the population.
+
+    With a robust search, ``robust`` holds the plan least disruptive over a population; it is then
+    the plan this draft recommends (``best``), with the average worker's plan beside it.
+    """
 
     draft: Draft
     days: list
@@ -596,10 +639,15 @@ class DraftResult:
     strategies: dict
     chosen: str
     population: PopulationSummary | None
+    robust: RobustChoice | None = None
 
     @property
     def best(self) -> StrategyOutcome:
-        return self.strategies[self.chosen]
+        return self.robust.outcome if self.robust is not None else self.strategies[self.chosen]
+
+    @property
+    def best_strategy(self) -> str:
+        return self.best.strategy
 
     @property
     def rank_score(self) -> float:
@@ -693,8 +741,42 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
     return baseline, outcomes
 
 
+#: People in the robust search population (a design choice of this planner: enough to rank plans by
+#: their mean score, about 1/sqrt(32) of the spread, at a cost of seconds per draft).
+ROBUST_SEARCH_WORKERS = 32
+
+
+def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[Strategy], average: StrategyOutcome,
+                 population: Population, states: np.ndarray) -> RobustChoice:
+    """Score every candidate plan over ``population`` in one batch; keep the lowest mean score.
+
+    The average worker's plan ``average`` is scored alongside, so the two can be shown side by side.
+    Column j of the batch is candidate j // N, person j % N (:func:`planner.population.simulate_population`).
+    """
+    roster = evaluator.roster
+    candidates = [average.plan] + [plan_for(roster, draft, name, settings)
+                                   for name in strategies for settings in candidate_settings(roster, name)]
+    start, end = period(roster, draft)
+    schedules = [roster_schedule(roster, draft, plan) for plan in candidates]
+    result = simulate_population(population, schedules, states, start, end, step_minutes=SEARCH_STEP_MINUTES)
+    if not result.success:
+        raise ComputationError(result.message)
+    evaluator.simulated += result.size
+    people = population.size
+    columns = [plan for plan in candidates for _ in range(people)]
+    scores = measure(roster, draft, columns, result, evaluator.ref).score.reshape(len(candidates), people)
+    mean = scores.mean(axis=1)
+    best = int(np.argmin(mean))
+    plan = candidates[best]
+    outcome = StrategyOutcome(plan.strategy, plan, evaluator.evaluate(draft, [plan], final=True), len(candidates))
+    p90 = np.percentile(scores, REPORTED_PERCENTILES[-1], axis=1)
+    return RobustChoice(outcome, people, float(mean[best]), float(p90[best]), float(mean[0]), float(p90[0]),
+                        len(candidates))
+
+
 def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | Strategy = "auto", *,
-                workers: int = 0, seed: int = 0,
+                workers: int = 0, seed: int = 0, robust: bool = False,
+                sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN,
                 progress: Callable[[int, int, str], None] | None = None) -> RosterResult:
     """Plan every draft of a roster and rank the drafts.
 
@@ -707,7 +789,13 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     workers : int
         Population size for the spread across workers (0: the average worker only).
     seed : int
-        Seed of the population draw (reproducible).
+        Seed of the population draws (reproducible).
+    sensitivity_sd_ln : float
+        SD of the log light-sensitivity factor on α0 of the drawn workers (0: intrinsic period only;
+        default :data:`planner.population.LIGHT_SENSITIVITY_SD_LN`, this planner's assumption).
+    robust : bool
+        Also score every candidate over :data:`ROBUST_SEARCH_WORKERS` drawn workers (intrinsic period
+        and light sensitivity) and recommend the plan with the lowest mean score (:func:`robust_draft`).
     progress : callable(done, total, label), optional
         Called after each step of work (the CLI draws a progress bar with it).
     """
@@ -716,7 +804,7 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     if not isinstance(workers, (int, np.integer)) or workers < 0:
         raise InputError(f"workers must be a whole number >= 0, got {workers!r}", field="workers")
     wanted = STRATEGIES if strategy == "auto" else (strategy,)
-    steps = len(roster.drafts) * (2 if workers else 1) + 1
+    steps = len(roster.drafts) * (1 + bool(workers) + bool(robust)) + 1
     done = 0
 
     def tick(label: str) -> None:
@@ -728,22 +816,31 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     evaluator = RosterEvaluator(roster, model)
     population = people_state = None
     if workers:
-        population = draw_population(model, int(workers), seed)
-        pop_ref = reference(roster, population.model)
-        people_state = pop_ref.state
+        population = draw_population(model, int(workers), seed, sensitivity_sd_ln=sensitivity_sd_ln)
+        people_state = reference(roster, population.model).state
+    search = search_state = None
+    if robust:
+        search = draw_population(model, ROBUST_SEARCH_WORKERS, seed + 1, sensitivity_sd_ln=sensitivity_sd_ln)
+        search_state = reference(roster, search.model).state
     tick("entrained to the free day")
     results = []
     for draft in roster.drafts:
         baseline, outcomes = plan_draft(evaluator, draft, wanted)
         chosen = min(outcomes, key=lambda name: (outcomes[name].score, wanted.index(name)))
         tick(f"planned {draft.name}")
+        robust_choice = None
+        if search is not None:
+            robust_choice = robust_draft(evaluator, draft, wanted, outcomes[chosen], search, search_state)
+            tick(f"robust search over {search.size} workers on {draft.name}")
+        recommended = robust_choice.outcome.plan if robust_choice is not None else outcomes[chosen].plan
         summary = None
         if population is not None:
-            metrics = evaluator.evaluate(draft, [outcomes[chosen].plan], final=True, model=population.model,
+            metrics = evaluator.evaluate(draft, [recommended], final=True, model=population.model,
                                          initial_state=people_state)
             summary = _summarise_population(roster, draft, metrics, population, period(roster, draft)[0])
             tick(f"simulated {population.size} workers on {draft.name}")
-        results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary))
+        results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary,
+                                   robust_choice))
     finite = all(math.isfinite(r.rank_score) for r in results)
     ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
                                             roster.drafts.index(r.draft)))
@@ -758,9 +855,65 @@ def ranking_reason(ranked: Sequence[DraftResult]) -> str:
     """Plain words for why the first draft ranks first."""
     first = ranked[0]
     what = "median worker" if first.population is not None else "average worker"
-    text = (f"{first.draft.name} with {STRATEGY_NAMES[first.chosen]} disrupts least: {first.rank_score:.1f} h per "
+    text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
             f"week of work in the circadian low or biological night spent awake for the {what}")
     if len(ranked) > 1:
-        others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.chosen]})" for r in ranked[1:])
+        others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.best_strategy]})"
+                           for r in ranked[1:])
         text += f", against {others}"
     return text
+
+
+# --------------------------------------------------------------------------- model ensemble
+
+#: Two models disagree on a day when their CBTmin differ by more than this [h] (the re-entrainment
+#: tolerance of the trip planner; a design threshold of this planner).
+ENSEMBLE_TOLERANCE_H = 1.0
+
+
+@dataclass(frozen=True)
+class EnsembleMember:
+    """One model's prediction for a plan (the average worker)."""
+
+    model: ModelSpec
+    metrics: Metrics
+
+
+@dataclass(frozen=True)
+class RosterEnsemble:
+    """A draft's recommended plan run under several models.
+
+    Attributes
+    ----------
+    members : list of EnsembleMember
+    disagree_days : list of int
+        Day indices whose CBTmin differ between some two models by more than
+        :data:`ENSEMBLE_TOLERANCE_H` (or where one model has none).
+    spread_h : ndarray, shape (D,)
+        Largest difference between the models' CBTmin on each day [h].
+    """
+
+    members: list
+    disagree_days: list
+    spread_h: np.ndarray
+
+    @property
+    def score_range(self) -> tuple[float, float]:
+        scores = [float(m.metrics.score[0]) for m in self.members]
+        return min(scores), max(scores)
+
+
+def roster_ensemble(roster: Roster, draft_result: DraftResult, models: Sequence[ModelSpec]) -> RosterEnsemble:
+    """Run ``draft_result``'s recommended plan under each model (each entrained to the free day itself)."""
+    if not models:
+        raise InputError("name at least one model for the ensemble", field="--models")
+    plan = draft_result.best.plan
+    members = [EnsembleMember(m, RosterEvaluator(roster, m).evaluate(draft_result.draft, [plan], final=True))
+               for m in models]
+    marks = np.stack([m.metrics.cbtmin[0] for m in members])          # (models, D) [h since the epoch]
+    with np.errstate(invalid="ignore"):
+        spread_h = np.nanmax(marks, axis=0) - np.nanmin(marks, axis=0) if len(members) > 1 \
+            else np.zeros(marks.shape[1])
+    missing = np.isnan(marks).any(axis=0) & ~np.isnan(marks).all(axis=0)
+    disagree = [int(d) for d in np.nonzero((spread_h > ENSEMBLE_TOLERANCE_H) | missing)[0]]
+    return RosterEnsemble(members, disagree, spread_h)

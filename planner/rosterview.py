@@ -223,7 +223,7 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
     groups = {}
     for crew in crews:
         draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
-        crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, chosen.chosen, settings)
+        crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
                                                                  crew.name if crew else None))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
@@ -256,10 +256,21 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                            "biological night awake h/wk": f"{outcome.metrics.awake_in_night_h[0] / weeks:.1f}",
                            "what the search found": describe_settings(outcome.plan)})
     recommended = list(chosen.strategies).index(chosen.chosen)
+    if chosen.robust is not None:
+        robust = chosen.robust
+        weeks = len(chosen.days) / 7.0
+        comparison.append({"strategy": f"robust over {robust.people} workers: {STRATEGY_NAMES[robust.outcome.strategy]}",
+                           "score h/wk": f"{robust.outcome.score:.1f}",
+                           "work in low h/wk": f"{robust.outcome.metrics.work_low_h[0] / weeks:.1f}",
+                           "biological night awake h/wk": f"{robust.outcome.metrics.awake_in_night_h[0] / weeks:.1f}",
+                           "what the search found": (f"{describe_settings(robust.outcome.plan)}; population mean "
+                                                     f"{robust.mean_score:.1f} against {robust.average_mean_score:.1f} "
+                                                     "for the average worker's plan")})
+        recommended = len(comparison) - 1
     ranked = Section("Drafts ranked, least disruptive first",
                      ("#", "draft", "pattern", "strategy", "score h/wk", "no plan"),
                      tuple((str(k + 1), d.draft.name, " ".join(c or "off" for c in d.draft.pattern) +
-                            f" ×{d.draft.cycles}", SHORT_NAMES[d.chosen], _score_text(d), f"{d.baseline.score:.1f}")
+                            f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], _score_text(d), f"{d.baseline.score:.1f}")
                            for k, d in enumerate(result.drafts)),
                      note=("score: hours per week of work within ±3 h of CBTmin plus biological night spent awake"
                            + (", population median [10th–90th percentile]" if chosen.population else "")))
@@ -280,7 +291,8 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
     summary += [("site", f"{roster.site.name} ({zone})"), ("shifts", shifts),
                 ("draft shown", f"{chosen.draft.name}: " + " ".join(c or "off" for c in chosen.draft.pattern)
                  + f" ×{chosen.draft.cycles}"),
-                ("strategy", f"{STRATEGY_NAMES[chosen.chosen]}: {describe_settings(plan)}"),
+                ("strategy", f"{STRATEGY_NAMES[plan.strategy]}: {describe_settings(plan)}"
+                             + (" (robust over a population)" if chosen.robust is not None else "")),
                 ("ranking", result.reason)]
     if roster.crews:
         summary.append(("crews", ", ".join(f"{c.name} (from day {c.offset_days % len(chosen.draft.pattern) + 1} "
