@@ -89,3 +89,4 @@ def test_roster_file_example_is_valid(tmp_path):
     # shift by the EU night period (Directive 2003/88/EC, from memory)
     assert roster.drafts[0].days == 28
     assert roster.shift("N").kind == "night" and roster.shift("D").kind == "day"
+    assert [(c.name, c.offset_days) for c in roster.crews] == [("A", 0), ("B", 3)]   # the example's crews

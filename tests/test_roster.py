@@ -244,3 +244,12 @@ def test_population_runs_are_reproducible_and_seed_dependent(minimal_plan):
     # common practice: a seeded draw repeats exactly
     np.testing.assert_array_equal(first.metrics.score, again.metrics.score)
     assert not np.array_equal(first.metrics.score, other.metrics.score)
+
+
+def test_two_crews_with_one_name_are_refused(tmp_path):
+    # One calendar per crew needs distinct names (common practice: a crew letter is unique on a site).
+    text = MINIMAL + '\n[[crews]]\nname = "A"\n\n[[crews]]\nname = "A"\noffset_days = 4\n'
+    result = CliRunner().invoke(app, ["check", str(_write(tmp_path, text))])
+    assert result.exit_code == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and "crews.1.name" in lines[0] and "another crew" in lines[0]
