@@ -58,7 +58,8 @@ import numpy as np
 
 from planner.entrainment import entrain
 from planner.errors import ComputationError, InputError
-from planner.integrate import simulate
+from planner.evidence import entrain_people
+from planner.integrate import model_batch_size, simulate
 from planner.intervals import free_segments
 from planner.light import hours_between
 from planner.markers import HOURS_PER_DAY, cbtmin_times, dlmo_times
@@ -439,13 +440,22 @@ class Reference:
 
 
 def reference(roster: Roster, model: ModelSpec) -> Reference:
-    """Entrain to the habitual free day at the site (:func:`planner.entrainment.entrain`)."""
+    """Entrain to the habitual free day at the site.
+
+    The average worker must entrain (:func:`planner.entrainment.entrain`); a population lives the free
+    day from the average worker's state for a bounded time (:func:`planner.evidence.entrain_people`),
+    so that a few drawn workers at the edge of the range of entrainment (long period, low light
+    sensitivity) keep the state that gives them instead of failing the run.
+    """
     light = LightOptions(indoor_lux=roster.indoor_lux, daylight_lux=roster.daylight_lux)
-    start, _ = period(roster, roster.drafts[0])
-    offset = roster.site.utc_offset_h(start)
-    steady = entrain(model, place_pattern(roster.site, light), utc_offset_h=offset)
-    if not steady.success:
-        raise ComputationError(f"cannot entrain the workers to their free day at {roster.site.name}: {steady.message}")
+    pattern = place_pattern(roster.site, light)
+    if model_batch_size(model) > 1:
+        steady = entrain_people(model, pattern)
+    else:
+        steady = entrain(model, pattern)
+        if not steady.success:
+            raise ComputationError(f"cannot entrain the workers to their free day at {roster.site.name}: "
+                                   f"{steady.message}")
     cbt = float(np.nanmedian(steady.cbtmin_clock_h))
     bed = (roster.site.bed_h - cbt + HOURS_PER_DAY / 2) % HOURS_PER_DAY - HOURS_PER_DAY / 2
     wake = bed + (roster.site.wake_h - roster.site.bed_h) % HOURS_PER_DAY
