@@ -156,3 +156,16 @@ def test_population_with_longer_intrinsic_periods_drifts_later_on_nights():
     varied = plan_roster(roster, model, "nights", workers=60, seed=3).drafts[0].population.cbtmin_clock_h[4]
     steady = population.cbtmin_clock_h[4]
     assert varied[2] - varied[0] >= steady[2] - steady[0]
+
+
+def test_a_worker_at_the_edge_of_entrainment_does_not_fail_a_population_run():
+    # A long intrinsic period with a weak light drive may not entrain to an ordinary day (the range of
+    # entrainment shrinks with the zeitgeber's strength; from memory); such a drawn worker keeps the
+    # state the free day gives them instead of failing everyone's run.
+    from planner.population import with_people
+    from planner.rosterplan import reference
+    draft = Draft("nights", ("N",) * 3, 1)
+    roster = Roster("edge", CHICAGO, date(2027, 7, 5), (NIGHT,), (draft,))
+    model = with_people(load_model("forger1999"), np.array([24.15, 24.9]), np.array([1.0, 0.05]))
+    state = reference(roster, model).state
+    assert state.shape == (3, 2) and np.all(np.isfinite(state))
