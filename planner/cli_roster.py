@@ -156,7 +156,8 @@ def _day_entry(roster: Roster, view: RosterDayView) -> dict[str, Any]:
         "shift": day.label,
         "kind": day.kind,
         "work": None if day.work is None else {"start": _iso(roster, day.work[0]), "end": _iso(roster, day.work[1])},
-        "sleep": [{"start": _iso(roster, a), "end": _iso(roster, b)} for a, b in view.sleep],
+        "sleep": [{"start": _iso(roster, a), "end": _iso(roster, b), "phase_angle_h": _number(angle)}
+                  for (a, b), angle in zip(view.sleep, view.sleep_phase_angle_h)],
         "bright_light": [_window_entry(w, lambda m: _iso(roster, m)) for w in view.bright],
         "light_avoidance": [_window_entry(w, lambda m: _iso(roster, m)) for w in view.avoid],
         "cbtmin": _iso(roster, view.cbtmin),

@@ -44,6 +44,19 @@ class RosterDayView:
     work_low_h: float
     burden_h: float
     adapted: bool
+    #: For each sleep: wake time minus the CBTmin nearest the sleep's middle [h] (the phase angle of
+    #: sleep to the clock; about +2 to +3 h on a habitual night, negative when CBTmin falls after waking).
+    sleep_phase_angle_h: tuple[float, ...] = ()
+
+
+def phase_angles(sleeps, marks: list[datetime]) -> tuple[float, ...]:
+    """Wake minus the CBTmin nearest each sleep's middle [h]; NaN without a CBTmin."""
+    angles = []
+    for bed, wake in sleeps:
+        middle = bed + (wake - bed) / 2
+        nearest = min(marks, key=lambda m: abs((m - middle).total_seconds()), default=None)
+        angles.append((wake - nearest).total_seconds() / 3600.0 if nearest is not None else math.nan)
+    return tuple(angles)
 
 
 def _owner(days, moment: datetime, back: timedelta = timedelta(0)) -> int | None:
@@ -70,6 +83,7 @@ def day_views(days: list[RosterDay], plan: RosterPlan, metrics: Metrics, epoch: 
     def moment(hours: float) -> datetime | None:
         return epoch + timedelta(hours=float(hours)) if math.isfinite(hours) else None
 
+    marks = [m for m in (moment(h) for h in metrics.cbtmin[column]) if m is not None]
     views = []
     for day in days:
         cbt = moment(metrics.cbtmin[column, day.index])
@@ -79,7 +93,8 @@ def day_views(days: list[RosterDay], plan: RosterPlan, metrics: Metrics, epoch: 
                                    moment(metrics.dlmo[column, day.index]),
                                    float(metrics.work_low_day_h[column, day.index]),
                                    float(metrics.day_burden_h[column, day.index]),
-                                   bool(metrics.adapted[column, day.index])))
+                                   bool(metrics.adapted[column, day.index]),
+                                   phase_angles(sorted(sleep[day.index]), marks)))
     return views
 
 

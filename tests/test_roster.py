@@ -253,3 +253,17 @@ def test_two_crews_with_one_name_are_refused(tmp_path):
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and "crews.1.name" in lines[0] and "another crew" in lines[0]
+
+
+def test_phase_angle_of_sleep_is_wake_minus_the_nearest_cbtmin(minimal_plan):
+    from planner.rosterview import phase_angles
+    utc = ZoneInfo("UTC")
+    bed, wake = datetime(2027, 3, 1, 23, tzinfo=utc), datetime(2027, 3, 2, 7, tzinfo=utc)
+    marks = [datetime(2027, 3, 1, 4, 30, tzinfo=utc), datetime(2027, 3, 2, 4, 30, tzinfo=utc)]
+    assert phase_angles([(bed, wake)], marks) == (2.5,)   # hand arithmetic: 07:00 - 04:30
+    assert np.isnan(phase_angles([(bed, wake)], [])[0])
+    # On the habitual free day the entrained CBTmin lies about 3 h before wake: DLMO to mid-sleep is about
+    # 6 h (Lewy 2009, Sleep Med Clin) and CBTmin = DLMO + 7 h (Eastman and colleagues; from memory), so
+    # wake - CBTmin = 4 - 1 = 3 h for an 8-h night; the band leaves an hour for the models.
+    roster, result = minimal_plan
+    assert 2.0 <= result.reference.wake_from_cbtmin_h <= 4.0
