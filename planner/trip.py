@@ -14,8 +14,7 @@ Everything is computed in UTC; local times are for display.
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from functools import cached_property, lru_cache
 from datetime import date, datetime, time, timedelta, timezone, tzinfo
 from typing import Literal, Sequence
@@ -24,9 +23,8 @@ import numpy as np
 
 from planner.entrainment import DailyPattern, entrain
 from planner.errors import ComputationError, InputError
-from planner.integrate import SimulationResult, simulate
 from planner.light import LightLayer, LightSchedule, ambient, dark_glasses, hours_between, light_box, sleep
-from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_difference
+from planner.markers import HOURS_PER_DAY
 from planner.parameters import ModelSpec
 from planner.sun import daylight_intervals
 

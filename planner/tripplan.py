@@ -38,7 +38,7 @@ from planner.errors import ComputationError
 from planner.integrate import simulate
 from planner.intervals import free_segments
 from planner.light import hours_between
-from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_at, phase_difference, reentrainment
+from planner.markers import HOURS_PER_DAY, cbtmin_times, phase_difference, reentrainment
 from planner.parameters import ModelSpec
 from planner.trip import (WAKE_BEFORE_DEPARTURE_H, daylight_within, night_of, Plan, Place, Targets, Trip, TripDay, Window,
                           habitual_sleep, plan_schedule, targets, trip_days, where_at)

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import re
 import warnings
-from datetime import datetime, timedelta
+from datetime import datetime
 from zoneinfo import ZoneInfo
 
 import numpy as np

@@ -23,9 +23,9 @@ import planner.cli
 from planner import load_model
 from planner.cli import app
 from planner.localtime import resolve_local, to_utc, zone
-from planner.scenario import builtin_scenario_paths, load_trip
+from planner.scenario import builtin_scenario_paths
 from planner.trip import Flight, LightOptions, Place, Plan, Trip, Window, habitual_sleep, trip_days, where_at
-from planner.tripplan import REENTRAINMENT_TOLERANCE_H, Evaluator, TripPlanner, plan_trip
+from planner.tripplan import REENTRAINMENT_TOLERANCE_H, Evaluator, TripPlanner
 
 from test_cli import one_json_document
 
