@@ -1245,9 +1245,12 @@ def demo(
         if StrategyChoice(strategy) != StrategyChoice.auto:
             raise InputError(f"--strategy {StrategyChoice(strategy).value} is for trips; plan a roster with "
                              f"'phaseplan roster {rosters[name]} --strategy nights|compromise|day'", field="--strategy")
+        if by_day is not None:
+            raise InputError("--by-day is for trips (days after arrival); a roster has no arrival", field="--by-day")
         from planner.cli_roster import run_roster
-        run_roster(str(rosters[name]), "auto", 0, 0, model_name, None, json_out,
-                   PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
+        # --people draws that many workers, as 'roster --workers' does; --robust and --models work alike.
+        run_roster(str(rosters[name]), "auto", people, seed, model_name, None, json_out,
+                   PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms), robust, models_list)
         return
     _run_trip("demo", str(demo_path(name)), strategy, model_name, json_out, people, seed, robust, models_list, by_day,
               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
