@@ -24,7 +24,7 @@ from rich.table import Table
 from planner.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.cli import (DEFAULT_ALARM_MINUTES, NONE_TEXT, AlarmOption, ChartOption, ForceOption, GroupOption,
                          IcsOption, JsonOption, NoAlarmsOption, PlanFiles, ReportOption, _citation_entry, _emit_json,
-                         _lux, _model_entry, _number, _print_citations, _print_facts, _print_written, _stderr,
+                         _clock, _lux, _model_entry, _number, _print_citations, _print_facts, _print_written, _stderr,
                          _model_list, _window_entry, app, write_plan_files)
 from planner.errors import InputError
 from planner.parameters import ModelSpec, load_model
@@ -34,7 +34,8 @@ from planner.rosterfile import OFF, RosterInfo, load_roster
 from planner.rosterplan import (ENSEMBLE_TOLERANCE_H, LOW_HALF_WIDTH_H, SHORT_NAMES, STRATEGY_NAMES, DraftResult,
                                 Metrics, RosterEnsemble, RosterResult, StrategyOutcome, describe_settings, plan_roster,
                                 roster_ensemble)
-from planner.rosterview import RosterDayView, chart_legend, day_views, document_from_roster, text_chart
+from planner.rosterview import (RosterDayView, chart_legend, day_views, document_from_roster, score_text,
+                                text_chart)
 from planner.trip import Window
 
 
@@ -168,19 +169,14 @@ def _day_entry(roster: Roster, view: RosterDayView) -> dict[str, Any]:
     }
 
 
-def _views(result: RosterResult, draft: DraftResult) -> list[RosterDayView]:
+def _views(draft: DraftResult) -> list[RosterDayView]:
     epoch = draft.days[0].start
     return day_views(draft.days, draft.best.plan, draft.best.metrics, epoch)
 
 
 def _pick(result: RosterResult, name: str | None) -> DraftResult:
-    if name is None:
-        return result.drafts[0]
-    for draft in result.drafts:
-        if draft.draft.name == name:
-            return draft
-    allowed = ", ".join(f'"{d.draft.name}"' for d in result.drafts)
-    raise InputError(f'no draft named "{name}"; allowed: {allowed}', field="--draft")
+    """The draft to show: the top-ranked, or the one named (checked against the file before planning)."""
+    return result.drafts[0] if name is None else next(d for d in result.drafts if d.draft.name == name)
 
 
 def _document(roster: Roster, info: RosterInfo, model: ModelSpec, result: RosterResult, chosen: DraftResult,
@@ -229,14 +225,6 @@ def _document(roster: Roster, info: RosterInfo, model: ModelSpec, result: Roster
     }
 
 
-def _score_cell(result: DraftResult) -> str:
-    text = f"{result.best.score:.1f}"
-    if result.population is not None:
-        s = result.population.score
-        text = f"{s['median']:.1f} [{s['p10']:.1f}–{s['p90']:.1f}]"
-    return text
-
-
 def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: ModelSpec, result: RosterResult,
                   chosen: DraftResult, views: list[RosterDayView], workers: int, seed: int,
                   ensemble: RosterEnsemble | None = None) -> None:
@@ -275,7 +263,7 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
         worst = int(m.worst_day[0])
         unadapted, runs = _unadapted_runs(m, "night")
         adapt = _mean_days(m, "night")
-        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], _score_cell(d),
+        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], score_text(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
                         f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
@@ -379,11 +367,6 @@ def _source(window: Window) -> str:
     return "box" if window.source == "light box" else window.source
 
 
-def _clock(hours: float) -> str:
-    minutes = round(hours * 60) % (24 * 60)
-    return f"{minutes // 60:02d}:{minutes % 60:02d}"
-
-
 RosterArgument = Annotated[str, typer.Argument(metavar="FILE", help="Roster scenario file (.toml, kind = \"roster\").")]
 
 
@@ -453,7 +436,7 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
         result = plan_roster(roster, model, strategy, workers=workers, seed=seed, robust=robust, progress=report)
         chosen = _pick(result, draft)
         ensemble = roster_ensemble(roster, chosen, [load_model(name) for name in ensemble_ids]) if ensemble_ids else None
-    views = _views(result, chosen)
+    views = _views(chosen)
     written = write_plan_files(document_from_roster(roster, info, result, chosen, views), files)
     if json_out:
         document = _document(roster, info, model, result, chosen, views, strategy, workers, seed)

@@ -735,18 +735,13 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
                   for name in strategies for settings in candidate_settings(roster, name)]
     baseline_plan = plan_for(roster, draft, "none")
     searched = evaluator.evaluate(draft, [baseline_plan] + [c[2] for c in candidates])
-    best: dict[str, tuple[float, RosterPlan, int]] = {}
-    for k, (name, _, plan) in enumerate(candidates):
-        score = float(searched.score[k + 1])
-        count = best.get(name, (math.inf, None, 0))[2] + 1
-        if name not in best or score < best[name][0] - 1e-9:
-            best[name] = (score, plan, count)
-        else:
-            best[name] = (best[name][0], best[name][1], count)
-    finals = [baseline_plan] + [best[name][1] for name in strategies]
-    metrics = evaluator.evaluate(draft, finals, final=True)
+    scores = searched.score[1:]
+    tried = {name: [k for k, c in enumerate(candidates) if c[0] == name] for name in strategies}
+    # The first of equal scores wins (candidate order), as the search has always kept it.
+    best = {name: candidates[min(ks, key=lambda k: (scores[k], k))][2] for name, ks in tried.items()}
+    metrics = evaluator.evaluate(draft, [baseline_plan] + [best[name] for name in strategies], final=True)
     baseline = StrategyOutcome("none", baseline_plan, metrics.column(0), 1)
-    outcomes = {name: StrategyOutcome(name, best[name][1], metrics.column(k + 1), best[name][2])
+    outcomes = {name: StrategyOutcome(name, best[name], metrics.column(k + 1), len(tried[name]))
                 for k, name in enumerate(strategies)}
     return baseline, outcomes
 

@@ -285,7 +285,7 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
     ranked = Section("Drafts ranked, least disruptive first",
                      ("#", "draft", "pattern", "strategy", "score h/wk", "no plan"),
                      tuple((str(k + 1), d.draft.name, " ".join(c or "off" for c in d.draft.pattern) +
-                            f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], _score_text(d), f"{d.baseline.score:.1f}")
+                            f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], score_text(d), f"{d.baseline.score:.1f}")
                            for k, d in enumerate(result.drafts)),
                      note=("score: hours per week of work within ±3 h of CBTmin plus biological night spent awake"
                            + (", population median [10th–90th percentile]" if chosen.population else "")))
@@ -323,7 +323,8 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         sections=tuple(sections), message=result.message)
 
 
-def _score_text(result) -> str:
+def score_text(result) -> str:
+    """A draft's score for tables: the population median [10th–90th percentile], else the average worker's."""
     if result.population is not None:
         s = result.population.score
         return f"{s['median']:.1f} [{s['p10']:.1f}–{s['p90']:.1f}]"
