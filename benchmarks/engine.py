@@ -22,10 +22,11 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from planner import LightSchedule, ambient, cbtmin_times, entrain, light_box, load_model, sleep
-from planner import kernel_numba
-from planner.integrate import simulate
-from planner.reference import reference_solution
+from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, sleep
+from planner.engine import kernel_numba
+from planner.engine.entrainment import entrain
+from planner.engine.integrate import simulate
+from planner.engine.reference import reference_solution
 
 MODELS = ("forger1999", "jewett1999", "hannay2019")
 TARGET_SPEED_UP = 3.0       # compiled (all threads) vs numpy batch (issue target)

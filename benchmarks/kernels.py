@@ -7,8 +7,8 @@ import time
 from contextlib import contextmanager
 from typing import Callable
 
-from planner import kernel_numba
-from planner.integrate import KERNEL_ENVIRONMENT
+from planner.engine import kernel_numba
+from planner.engine.integrate import KERNEL_ENVIRONMENT
 
 
 @contextmanager

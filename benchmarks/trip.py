@@ -16,8 +16,8 @@ import argparse
 
 from kernels import announce, timed
 from planner import load_model
-from planner.scenario import builtin_scenario_paths, load_trip
-from planner.tripplan import plan_trip
+from planner.trips.scenario import builtin_scenario_paths, load_trip
+from planner.trips.search import plan_trip
 
 TARGET_SECONDS = 3.0   # per trip on the compiled kernel (issue target)
 

@@ -1,10 +1,10 @@
 """The compiled batch kernel against the numpy kernel (the reference), scipy's DOP853, and the fallback.
 
-The numpy kernel of :mod:`planner.integrate` is the reference implementation of the scheme; the
-compiled kernel (:mod:`planner.kernel_numba`) must reproduce it to rounding (1e-9 on the state)
+The numpy kernel of :mod:`planner.engine.integrate` is the reference implementation of the scheme; the
+compiled kernel (:mod:`planner.engine.kernel_numba`) must reproduce it to rounding (1e-9 on the state)
 on batches with light edges inside steps, a short last step, per-person parameters and a batch
 width that is not a multiple of the kernel's column block.  Its CBTmin is also checked against
-scipy's ``solve_ivp`` DOP853 (``planner.reference``), which is independent of both kernels.
+scipy's ``solve_ivp`` DOP853 (``planner.engine.reference``), which is independent of both kernels.
 """
 
 from __future__ import annotations
@@ -19,13 +19,13 @@ import numpy as np
 import pytest
 
 from conftest import MODELS, T0, at
-from planner import kernel_numba
+from planner.engine import kernel_numba
 from planner.errors import InputError
-from planner.integrate import KERNEL_ENVIRONMENT, resolve_kernel, simulate
-from planner.light import LightSchedule, ambient, dark_glasses, light_box, sample_on_grid, sleep
-from planner.markers import cbtmin_times
-from planner.parameters import load_model
-from planner.reference import reference_solution
+from planner.engine.integrate import KERNEL_ENVIRONMENT, resolve_kernel, simulate
+from planner.world.light import LightSchedule, ambient, dark_glasses, light_box, sample_on_grid, sleep
+from planner.engine.markers import cbtmin_times
+from planner.engine.parameters import load_model
+from planner.engine.reference import reference_solution
 
 needs_numba = pytest.mark.skipif(not kernel_numba.AVAILABLE, reason="numba is not installed")
 
@@ -88,7 +88,7 @@ def test_the_kernels_agree_with_per_person_parameters(name, entrained_states):
 @needs_numba
 @pytest.mark.parametrize("name", MODELS)
 def test_compiled_cbtmin_within_a_minute_of_dop853(name, entrained_states):
-    # scipy's DOP853 at rtol 1e-10 (planner.reference) is independent of both kernels;
+    # scipy's DOP853 at rtol 1e-10 (planner.engine.reference) is independent of both kernels;
     # the 1-min limit is the accuracy the model files claim for their step ([numerics])
     model = load_model(name)
     schedule = invented_batch(1, seed=11)[0]
@@ -127,10 +127,11 @@ def test_without_numba_the_numpy_kernel_runs_and_compiled_is_refused(tmp_path):
         sys.modules["numba"] = None          # any "import numba" now raises ImportError
         import numpy as np
         from datetime import datetime, timezone, timedelta
-        from planner import kernel_numba, load_model
+        from planner import load_model
+        from planner.engine import kernel_numba
         from planner.errors import InputError
-        from planner.integrate import resolve_kernel, simulate
-        from planner.light import LightSchedule
+        from planner.engine.integrate import resolve_kernel, simulate
+        from planner.world.light import LightSchedule
         assert not kernel_numba.AVAILABLE and kernel_numba.warm_up() is None
         assert resolve_kernel() == "numpy"
         start = datetime(2027, 1, 4, tzinfo=timezone.utc)

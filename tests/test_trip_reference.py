@@ -14,9 +14,9 @@ from datetime import timedelta
 import pytest
 
 from conftest import lisbon_trip_toml
-from planner.parameters import load_model
-from planner.scenario import load_trip
-from planner.tripplan import TripPlanner, plan_trip
+from planner.engine.parameters import load_model
+from planner.trips.scenario import load_trip
+from planner.trips.search import TripPlanner, plan_trip
 
 # Invented travellers (no single source); real cities and zones.
 TRIPS = {
