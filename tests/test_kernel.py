@@ -21,7 +21,7 @@ import pytest
 from conftest import MODELS, T0, at
 from planner.engine import kernel_numba
 from planner.errors import InputError
-from planner.engine.integrate import KERNEL_ENVIRONMENT, resolve_kernel, simulate
+from planner.engine.integrate import KERNEL_ENVIRONMENT, fine_steps, resolve_kernel, simulate
 from planner.world.light import LightSchedule, ambient, dark_glasses, light_box, sample_on_grid, sleep
 from planner.engine.markers import cbtmin_times
 from planner.engine.parameters import load_model
@@ -67,6 +67,14 @@ def test_compiled_and_numpy_kernels_agree_to_1e9(name, entrained_states):
     assert numpy_run.success and compiled_run.success
     np.testing.assert_allclose(compiled_run.states, numpy_run.states, rtol=0, atol=KERNEL_TOLERANCE)
     np.testing.assert_allclose(compiled_run.drive, numpy_run.drive, rtol=0, atol=KERNEL_TOLERANCE)
+    # markers re-integrate single steps finely on the kernel of their run: split and unsplit steps alike
+    rows = np.concatenate([grid.split_step[:40], np.arange(0, grid.times.size - 1, 23)])
+    columns = np.concatenate([grid.split_column[:40], np.arange(rows.size - 40) % 21])
+    fine = [fine_steps(run, rows, columns) for run in (numpy_run, compiled_run)]
+    np.testing.assert_allclose(fine[1][0], fine[0][0], rtol=0, atol=KERNEL_TOLERANCE)
+    np.testing.assert_allclose(fine[1][1], fine[0][1], rtol=0, atol=KERNEL_TOLERANCE)
+    for ours, reference in zip(cbtmin_times(compiled_run), cbtmin_times(numpy_run)):
+        np.testing.assert_allclose(ours, reference, rtol=0, atol=KERNEL_TOLERANCE)
 
 
 @needs_numba

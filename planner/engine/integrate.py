@@ -78,6 +78,8 @@ class SimulationResult:
         Nominal step [h].
     light : GridLight
         The light the batch was integrated with (for re-integrating single steps finely).
+    kernel : str
+        The kernel that integrated it, ``"numpy"`` or ``"compiled"`` (:func:`fine_steps` uses the same).
     """
 
     success: bool
@@ -90,6 +92,7 @@ class SimulationResult:
     drive: np.ndarray
     step_h: float
     light: GridLight | None = dataclasses.field(default=None, repr=False)
+    kernel: str = "numpy"
 
     @property
     def size(self) -> int:
@@ -142,6 +145,8 @@ def fine_steps(result: SimulationResult, rows: np.ndarray, columns: np.ndarray,
     oscillator : ndarray, shape (substeps + 1, 2, E)
         Oscillator states at those points.
     """
+    if result.kernel == "compiled":
+        return kernel_numba.fine_steps(result, rows, columns, substeps)
     light = result.light
     model = result.model
     family = model.family
@@ -260,12 +265,14 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray, *,
     times = light.times
     steps = times.size - 1
     lengths = np.diff(times)
-    if chosen == "compiled" and kernel_numba.supports(family.key, pl.form):
+    if chosen == "compiled" and not kernel_numba.supports(family.key, pl.form):
+        chosen = "numpy"
+    if chosen == "compiled":
         states, drives, failure = kernel_numba.integrate_batch(model, light, state0)
     else:
         states, drives, failure = _integrate_numpy(model, light, state0)
     common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0,
-                  light=light)
+                  light=light, kernel=chosen)
     if failure is not None:
         step, column = failure
         states[step + 1:] = np.nan

@@ -30,6 +30,7 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass
+from types import SimpleNamespace
 
 import numpy as np
 
@@ -370,12 +371,135 @@ if AVAILABLE:
                     drives[steps, j] = pl[b, 4] * alpha_level[b, level_index[steps - 1, j]] * (1.0 - drive[8, b])
 
 
+    @njit(cache=True, parallel=True)
+    def _fine_columns(family, form, coefficients, process_l, times, rows, columns, states, levels, level_index,
+                      split_first, split_step, split_lengths, split_lux, substeps, out_times, out_path):
+        """Re-integrate single grid steps in ``substeps`` sub-steps; see :func:`fine_steps`.
+
+        A sub-step inside one piece of constant light takes the single-piece maps (computed once
+        per piece and sub-step length); one that straddles a light edge takes the maps of its pieces.
+        """
+        pieces = split_lengths.shape[1]
+        chunk = 32
+        for first in prange((rows.size + chunk - 1) // chunk):
+            piece_lengths = np.zeros(pieces)
+            piece_lux = np.zeros(pieces)
+            piece_start = np.empty(pieces)
+            piece_end = np.empty(pieces)
+            clipped = np.empty(pieces)
+            maps = np.empty(8)
+            x = np.empty(1)
+            xc = np.empty(1)
+            drive = np.empty((9, 1))
+            column = np.empty((coefficients.shape[0], 1))
+            for e in range(first * chunk, min(first * chunk + chunk, rows.size)):
+                r = rows[e]
+                j = columns[e]
+                pl = process_l[:, j]
+                start = times[r]
+                length = times[r + 1] - start
+                used = 1
+                piece_lengths[0] = length
+                piece_lux[0] = levels[level_index[r, j]]
+                lo_index = split_first[j]
+                hi_index = split_first[j + 1]
+                found = lo_index + np.searchsorted(split_step[lo_index:hi_index], r)
+                if found < hi_index and split_step[found] == r:
+                    used = pieces
+                    piece_lengths[:] = split_lengths[found]
+                    piece_lux[:] = split_lux[found]
+                edge = 0.0
+                for q in range(used):
+                    piece_start[q] = edge
+                    edge += piece_lengths[q]
+                    piece_end[q] = edge
+                h = length / substeps
+                y0 = states[r, 0, j]
+                y1 = states[r, 1, j]
+                n = states[r, 2, j]
+                out_path[0, 0, e] = y0
+                out_path[0, 1, e] = y1
+                column[:, 0] = coefficients[:, j]
+                for s in range(substeps + 1):
+                    out_times[s, e] = start + h * s
+                held = -1      # the piece whose single-piece maps ``maps`` holds
+                for s in range(substeps):
+                    lo = s * h
+                    hi = (s + 1) * h
+                    inside = 0
+                    last = 0
+                    for q in range(used):
+                        clipped[q] = max(min(piece_end[q], hi) - max(piece_start[q], lo), 0.0)
+                        if clipped[q] > 0.0:
+                            inside += 1
+                            last = q
+                    if inside > 1:
+                        _pieces(clipped[:used], piece_lux[:used], form, pl, maps)
+                        held = -1
+                    elif last != held or abs(clipped[last] - h) > _NOMINAL_TOLERANCE_H:
+                        _single_piece(clipped[last], piece_lux[last], form, pl, maps)
+                        held = last if abs(clipped[last] - h) <= _NOMINAL_TOLERANCE_H else -1
+                    x[0] = y0
+                    xc[0] = y1
+                    for f in range(8):
+                        drive[f, 0] = maps[f]
+                    drive[8, 0] = n
+                    if family == 0:
+                        _forger_steps(x, xc, drive, column, h, 1)
+                    elif family == 1:
+                        _jewett_steps(x, xc, drive, column, h, 1)
+                    else:
+                        _hannay_steps(x, xc, drive, column, h, 1)
+                    y0 = x[0]
+                    y1 = xc[0]
+                    n = drive[8, 0]
+                    out_path[s + 1, 0, e] = y0
+                    out_path[s + 1, 1, e] = y1
+
+
 def _packed(namespace_or_values, names, size: int) -> np.ndarray:
     """Rows of per-column values, each broadcast to ``size`` columns."""
     rows = np.empty((len(names), size))
     for row, name in enumerate(names):
         rows[row] = np.broadcast_to(np.asarray(namespace_or_values(name), dtype=float), (size,))
     return rows
+
+
+def _batch_arrays(model, light) -> tuple[np.ndarray, ...]:
+    """The kernel's view of a batch: packed coefficients, lux levels and split steps grouped by column."""
+    size = light.size
+    coefficients = _packed(lambda name: getattr(model.coefficients, name), COEFFICIENT_ORDER[model.family.key], size)
+    process_l = _packed(lambda name: getattr(model.process_l, name), PROCESS_L_ORDER, size)
+    if light.level_index is not None and light.levels is not None:
+        levels = np.ascontiguousarray(light.levels, dtype=float)
+        level_index = np.ascontiguousarray(light.level_index, dtype=np.int32)
+    else:
+        levels, inverse = np.unique(light.lux, return_inverse=True)
+        level_index = inverse.reshape(light.lux.shape).astype(np.int32)
+    # Split steps grouped by column, in step order within each column (CSR-like offsets).
+    order = np.lexsort((light.split_step, light.split_column))
+    split_column = np.asarray(light.split_column)[order]
+    split_first = np.searchsorted(split_column, np.arange(size + 1)).astype(np.int64)
+    split_step = np.ascontiguousarray(np.asarray(light.split_step, dtype=np.int64)[order])
+    split_lengths = np.ascontiguousarray(np.asarray(light.split_lengths, dtype=float)[order])
+    split_lux = np.ascontiguousarray(np.asarray(light.split_lux, dtype=float)[order])
+    return coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux
+
+
+def fine_steps(result, rows: np.ndarray, columns: np.ndarray, substeps: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`planner.engine.integrate.fine_steps` on the compiled kernel (same arguments and results)."""
+    model, light = result.model, result.light
+    batch = _batch_arrays(model, light)
+    coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux = batch
+    rows = np.ascontiguousarray(rows, dtype=np.int64)
+    columns = np.ascontiguousarray(columns, dtype=np.int64)
+    out_times = np.empty((substeps + 1, rows.size))
+    out_path = np.empty((substeps + 1, 2, rows.size))
+    _fine_columns(FAMILY_CODES[model.family.key], FORM_CODES[model.process_l.form], coefficients, process_l,
+                  np.ascontiguousarray(result.times, dtype=float), rows, columns,
+                  np.ascontiguousarray(result.states), levels, level_index, split_first, split_step, split_lengths,
+                  split_lux, int(substeps), out_times, out_path)
+    return out_times, out_path
 
 
 def integrate_batch(model, light, state0: np.ndarray) -> tuple[np.ndarray, np.ndarray, tuple[int, int] | None]:
@@ -397,24 +521,11 @@ def integrate_batch(model, light, state0: np.ndarray) -> tuple[np.ndarray, np.nd
     lengths = np.ascontiguousarray(np.diff(times))
     steps = lengths.size
     nominal = float(lengths.max()) if steps else 0.0
-    coefficients = _packed(lambda name: getattr(model.coefficients, name), COEFFICIENT_ORDER[family.key], size)
-    process_l = _packed(lambda name: getattr(pl, name), PROCESS_L_ORDER, size)
-    if light.level_index is not None and light.levels is not None:
-        levels = np.ascontiguousarray(light.levels, dtype=float)
-        level_index = np.ascontiguousarray(light.level_index, dtype=np.int32)
-    else:
-        levels, inverse = np.unique(light.lux, return_inverse=True)
-        level_index = inverse.reshape(light.lux.shape).astype(np.int32)
-    # Split steps grouped by column, in step order within each column (CSR-like offsets).
-    order = np.lexsort((light.split_step, light.split_column))
-    split_column = np.asarray(light.split_column)[order]
-    split_first = np.searchsorted(split_column, np.arange(size + 1)).astype(np.int64)
-    split_step = np.ascontiguousarray(np.asarray(light.split_step, dtype=np.int64)[order])
-    split_lengths = np.ascontiguousarray(np.asarray(light.split_lengths, dtype=float)[order])
-    split_lux = np.ascontiguousarray(np.asarray(light.split_lux, dtype=float)[order])
+    batch = _batch_arrays(model, light)
     states = np.empty((steps + 1, 3, size))
     drives = np.empty((steps + 1, size))
     failed = np.empty(size, dtype=np.int64)
+    coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux = batch
     _integrate_columns(FAMILY_CODES[family.key], FORM_CODES[pl.form], coefficients, process_l, lengths, nominal,
                        levels, level_index, split_first, split_step, split_lengths, split_lux,
                        np.ascontiguousarray(state0, dtype=float), states, drives, failed)
@@ -449,7 +560,9 @@ def warm_up() -> CompileReport | None:
     for key in FAMILY_CODES:
         model = load_model(key)
         state = np.vstack([model.family.state_from_angle(np.array([math.pi]), model.coefficients), [[0.0]]])
-        integrate_batch(model, light, state)
+        states, _, _ = integrate_batch(model, light, state)
+        ran = SimpleNamespace(model=model, light=light, times=light.times, states=states)
+        fine_steps(ran, np.array([0, 3]), np.array([0, 0]), 4)     # a step split by a light edge, and one not
     seconds = time.perf_counter() - began
     hits = sum(_integrate_columns.stats.cache_hits.values()) - hits_before
     return CompileReport(seconds, hits > 0, thread_count())

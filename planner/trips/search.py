@@ -324,10 +324,15 @@ def required_shift_h(trip: Trip, evaluator: Evaluator, strategy: Strategy) -> fl
 # --- windows -------------------------------------------------------------------------------------
 
 def _forbidden(trip: Trip, plan_sleep) -> list[tuple[datetime, datetime]]:
+    return list(_forbidden_spans(trip, tuple(plan_sleep)))
+
+
+@lru_cache(maxsize=4096)
+def _forbidden_spans(trip: Trip, plan_sleep: tuple) -> tuple[tuple[datetime, datetime], ...]:
     spans = list(plan_sleep)
     spans += [(f.depart, f.arrive) for f in trip.flights]
     spans += [(b.start, b.end) for b in trip.busy]
-    return sorted(spans)
+    return tuple(sorted(spans))
 
 
 def _longest(segments):
@@ -436,7 +441,7 @@ class TripPlanner:
         if choice.bright_hours > 0:
             s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
             e = s + timedelta(hours=choice.bright_hours)
-            taken = sorted(forbidden + [(w.start, w.end) for w in bright])
+            taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
             window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
             if window is not None:
                 key = (self._day_index(window.start), window.source)
@@ -451,7 +456,7 @@ class TripPlanner:
             s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
             e = s + timedelta(hours=choice.avoid_hours)
             taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
-            window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", sorted(taken))
+            window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", taken)
             if window is not None:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))

@@ -167,27 +167,32 @@ class LightSchedule:
             raise ScheduleError(f"background lux must be a finite number >= 0, got {background_lux}",
                                 field="background_lux")
         span = hours_between(start, end)
-        cuts = [0.0, span]
-        bounds = []
-        for layer in layers:
-            a = min(max(hours_between(start, layer.start), 0.0), span)
-            b = min(max(hours_between(start, layer.end), 0.0), span)
-            bounds.append((a, b))
-            cuts.extend((a, b))
-        edges = np.unique(np.asarray(cuts))
+        # Layer times are UTC (LightLayer converts them), so plain subtraction is elapsed time.
+        first = np.array([(layer.start - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
+        last = np.array([(layer.end - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
+        a = np.clip(first, 0.0, span)
+        b = np.clip(last, 0.0, span)
+        edges = np.unique(np.concatenate(([0.0, span], a, b)))
         edges = edges[np.concatenate(([True], np.diff(edges) > EDGE_TOLERANCE_H))]
         edges[-1] = span
         lefts, rights = edges[:-1], edges[1:]
         mids = 0.5 * (lefts + rights)
-        lux = np.full(mids.shape, float(background_lux))
-        for layer, (a, b) in zip(layers, bounds):
-            inside = (mids > a) & (mids < b)
-            if layer.kind == "set":
-                lux[inside] = layer.value
-            elif layer.kind == "at_least":
-                lux[inside] = np.maximum(lux[inside], layer.value)
+        # Applying the layers in order: a segment takes the value of the last "set" layer over it
+        # (or the background), then every later "at_least" / "scale" layer over it, in order.
+        inside = (mids[None, :] > a[:, None]) & (mids[None, :] < b[:, None])      # (layers, segments)
+        kinds = [layer.kind for layer in layers]
+        is_set = np.array([kind == "set" for kind in kinds], dtype=bool)
+        values = np.array([float(layer.value) for layer in layers])
+        order = np.arange(len(layers))[:, None]
+        last_set = np.max(np.where(inside & is_set[:, None], order, -1), axis=0, initial=-1)
+        lux = np.where(last_set >= 0, values[np.maximum(last_set, 0)] if len(layers) else 0.0,
+                       float(background_lux))
+        for index in np.nonzero(~is_set)[0]:
+            over = inside[index] & (last_set < index)
+            if kinds[index] == "at_least":
+                lux[over] = np.maximum(lux[over], values[index])
             else:
-                lux[inside] *= layer.value
+                lux[over] *= values[index]
         keep = np.concatenate(([True], lux[1:] != lux[:-1]))
         return cls(start, np.append(edges[:-1][keep], span), lux[keep])
 
