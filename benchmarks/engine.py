@@ -2,7 +2,7 @@
 
 For each model, in one run: 14-day schedules per second for the numpy kernel, the compiled
 kernel on one thread and on all threads (N schedules in one ``simulate`` call, grid sampling
-included; best of ``--repeat`` calls each), scipy's DOP853 one schedule at a time (on a subset,
+included; best of ``--repeat`` calls each; and the integrator alone on a grid sampled once), scipy's DOP853 one schedule at a time (on a subset,
 per-schedule rate), their ratios, and the largest CBTmin difference of each kernel against
 DOP853 on that subset.  The compiled kernel's first call (compilation, or loading its on-disk
 cache) is timed apart and not in the rates.
@@ -22,10 +22,10 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, sleep
+from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, sample_on_grid, sleep
 from planner.engine import kernel_numba
 from planner.engine.entrainment import entrain
-from planner.engine.integrate import simulate
+from planner.engine.integrate import integrate, simulate
 from planner.engine.reference import reference_solution
 
 MODELS = ("forger1999", "jewett1999", "hannay2019")
@@ -88,6 +88,10 @@ def measure(name: str, args, schedules, start, end, threads: int) -> bool:
     kernel_numba.set_thread_count(threads)
     compiled_rate, compiled_result = best_rate(args.n, args.repeat, lambda: batch("compiled"))
     numpy_markers, compiled_markers = cbtmin_times(numpy_result), cbtmin_times(compiled_result)
+    # The integrator alone, on a grid sampled once (sampling is numpy on both paths).
+    grid = sample_on_grid(schedules, start, end, model.step_minutes / 60.0)
+    numpy_only, _ = best_rate(args.n, args.repeat, lambda: integrate(model, grid, state, kernel="numpy"))
+    compiled_only, _ = best_rate(args.n, args.repeat, lambda: integrate(model, grid, state, kernel="compiled"))
 
     began = time.perf_counter()
     numpy_errors, compiled_errors = [], []
@@ -106,6 +110,8 @@ def measure(name: str, args, schedules, start, end, threads: int) -> bool:
     print(f"  compiled, 1 thread     : {single_rate:10.0f} schedules/s   {single_rate / numpy_rate:6.2f} x numpy")
     print(f"  compiled, {threads} threads    : {compiled_rate:10.0f} schedules/s   {speed_up:6.2f} x numpy"
           f"      target >= {TARGET_SPEED_UP:g} x   {verdict(speed_up >= TARGET_SPEED_UP)}")
+    print(f"  integrator only (grid sampled once): numpy {numpy_only:.0f}/s, compiled {compiled_only:.0f}/s, "
+          f"{compiled_only / numpy_only:.2f} x")
     print(f"  solve_ivp DOP853       : {reference_rate:10.2f} schedules/s   ({args.reference} schedules, rtol 1e-10)")
     print(f"  ratio numpy / DOP853   : {numpy_rate / reference_rate:10.0f} x")
     print(f"  ratio compiled / DOP853: {ratio:10.0f} x             target >= {TARGET_RATIO:g} x  "
