@@ -114,11 +114,10 @@ class SimulationResult:
         with no light reaching the eye.
         """
         family, c = self.model.family, self.model.coefficients
-        rows = self.states.shape[0]
-        flat = np.moveaxis(self.states[:, :2, :], 1, 0).reshape(2, -1)
-        drive = np.zeros(flat.shape[1]) if light_off else self.drive.reshape(-1)
-        coefficients = _take_coefficients(c, np.tile(np.arange(self.size), rows))
-        return np.moveaxis(family.derivatives(flat, drive, coefficients).reshape(2, rows, -1), 0, 1)
+        # (2, K + 1, N) views: per-person coefficients of shape (N,) broadcast along the last axis.
+        oscillator = np.moveaxis(self.states[:, :2, :], 1, 0)
+        drive = np.zeros(self.states.shape[::2]) if light_off else self.drive
+        return np.moveaxis(family.derivatives(oscillator, drive, c), 0, 1)
 
 
 def _take_coefficients(c, columns: np.ndarray):
