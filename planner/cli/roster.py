@@ -24,7 +24,11 @@ from planner.cli.common import (
     GroupOption,
     IcsOption,
     JsonOption,
+    DEFAULT_ALARM_FOR,
+    AlarmKindsOption,
     NoAlarmsOption,
+    PaperOption,
+    alarm_kinds,
     ReportOption,
     emit_json,
     model_list,
@@ -212,17 +216,17 @@ def roster_command(
         help=("auto: search full adaptation to nights, the compromise phase position and staying day-oriented, "
               "keep the least disruptive per draft; or one of them."))] = RosterStrategy.auto,
     workers: Annotated[int, typer.Option(
-        "--workers", "-w", min=0, max=20_000,
+        "--people", "--workers", "-w", metavar="N", min=0, max=20_000,
         help="Also simulate this many workers with intrinsic periods drawn from Duffy et al. 2011 (0: average "
              "worker only).")] = 0,
-    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the population draw (reproducible).")] = 0,
+    seed: Annotated[int, typer.Option("--seed", metavar="S", min=0, help="Seed of the population draw (reproducible).")] = 0,
     model_name: Annotated[str | None, typer.Option(
         "--model", "-m", metavar="ID_OR_PATH",
         help="Model to use instead of the scenario's own (a built-in id or a model .toml file).")] = None,
     draft: Annotated[str | None, typer.Option(
         "--draft", metavar="NAME", help="Show the day-by-day plan of this draft (default: the top-ranked).")] = None,
     robust: Annotated[bool, typer.Option(
-        "--robust", help=("Score every candidate plan over a population of simulated workers (intrinsic period and "
+        "--robust", metavar="", help=("Score every candidate plan over a population of simulated workers (intrinsic period and "
                           "light sensitivity drawn) and recommend the least disruptive on average; the average "
                           "worker's plan is shown beside it."))] = False,
     models_list: Annotated[str | None, typer.Option(
@@ -237,11 +241,14 @@ def roster_command(
     alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
     no_alarms: NoAlarmsOption = False,
     group: GroupOption = None,
+    alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
+    paper: PaperOption = "A4",
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
                                     model_list(models_list), group)
-    run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group))
+    run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group,
+                                            alarm_kinds(alarm_for), paper))
 
 
 def run_roster(request: service.RosterRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:
