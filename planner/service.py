@@ -414,6 +414,7 @@ class RosterOutcome:
         document["command"] = request.command
         document["robust"] = roster_export.robust_entry(self.chosen)
         document["ensemble"] = roster_export.ensemble_entry(self.roster, self.ensemble)
+        document["crews"] = roster_export.crews_entry(self.roster, self.crews)
         document["citations"] = [citation_entry(m) for m in self.models_used]
         return document
 

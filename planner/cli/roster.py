@@ -56,6 +56,7 @@ from planner.rosters.search import (
 )
 from planner.rosters.views import chart_legend, score_text, text_chart
 from planner.world.light import Window
+from planner.intervals import count_text
 
 
 class RosterStrategy(str, Enum):
@@ -193,7 +194,7 @@ def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensem
         dates = ", ".join(chosen.days[d].date.strftime("%d %b") for d in ensemble.disagree_days[:8])
         more = f" and {len(ensemble.disagree_days) - 8} more" if len(ensemble.disagree_days) > 8 else ""
         console.print(f"  [yellow]models disagree[/yellow] by more than {ENSEMBLE_TOLERANCE_H:g} h on CBTmin on "
-                      f"{len(ensemble.disagree_days)} day(s): {dates}{more}; scores {low:.1f}–{high:.1f} h/wk")
+                      f"{count_text(len(ensemble.disagree_days), 'day')}: {dates}{more}; scores {low:.1f}–{high:.1f} h/wk")
     else:
         console.print(f"  the models agree within {ENSEMBLE_TOLERANCE_H:g} h on every day's CBTmin; scores "
                       f"{low:.1f}–{high:.1f} h/wk")

@@ -83,6 +83,7 @@ from planner.rosters.model import (
     sunlit,
 )
 from planner.world.light import LightOptions, Window, hours_between
+from planner.intervals import count_text
 
 Strategy = Literal["nights", "compromise", "day"]
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
@@ -866,7 +867,7 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
                                             roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
-    message = (f"{len(ranked)} draft(s) planned; least disruptive: {ranked[0].draft.name}" if finite else
+    message = (f"{count_text(len(ranked), 'draft')} planned; least disruptive: {ranked[0].draft.name}" if finite else
                "some drafts have no finite disruption score (no CBTmin predicted on some days)")
     return RosterResult(finite, 0 if finite else 1, message, roster, ranked, reason, evaluator.simulated,
                         [model.citation], evaluator.ref)
