@@ -330,10 +330,10 @@ def test_demo_json_carries_the_plan(stored_plans):
     assert document["simulated"] == plan.simulated > 0
     assert set(document["alternatives"]) == {"advance", "delay"}
     for entry in [document["baseline"], *document["alternatives"].values()]:
-        for key in ("reentrainment_days", "direction", "net_shift_h"):
+        for key in ("reentrainment_days", "direction", "net_phase_shift_h"):
             assert key in entry
     for entry in document["alternatives"].values():
-        for key in ("box_minutes", "near_low_amplitude", "refined"):
+        for key in ("light_box_minutes", "near_low_amplitude", "refined"):
             assert key in entry
     assert document["baseline"]["direction"] == plan.baseline.direction
     assert len(document["days"]) == len(trip_days(trip))

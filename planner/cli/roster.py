@@ -95,9 +95,9 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
                            "sleep outside the biological night (not scored); nights adapt: mean days from the first night "
-                           "of a run until CBTmin falls inside sleep; unadapted: runs of nights in which it never does."),
+                           "of a run until CBTmin falls inside sleep; never adapted: runs of nights in which it never does."),
                   caption_justify="left")
-    for header in ("draft", "low h/wk", "awake h/wk", "out of phase", "nights adapt", "unadapted"):
+    for header in ("draft", "low h/wk", "awake h/wk", "out of phase", "nights adapt", "never adapted"):
         parts.add_column(header, no_wrap=header != "draft")
     for k, d in enumerate(result.drafts):
         m = d.best.metrics
@@ -147,8 +147,8 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                         + (" (robust)" if chosen.robust is not None else ""),
                   box=box.SIMPLE_HEAD, title_justify="left", caption_justify="left",
                   caption=(f"Times on the site's clock ({escape(str(roster.site.zone))}). light: * bright light "
-                           "(light box or daylight), o dark glasses. CBTmin: that of the night after the day; ✓ "
-                           f"inside sleep (adapted). low: hours of the shift within ±{LOW_HALF_WIDTH_H:g} h of CBTmin."))
+                           "(light box or daylight), o dark glasses. CBTmin: that of the night after the day; in sleep: "
+                           f"it falls inside a sleep (adapted). low: hours of the shift within ±{LOW_HALF_WIDTH_H:g} h of CBTmin."))
     for header in ("day", "shift", "sleep", "light", "CBTmin", "low"):
         table.add_column(header, no_wrap=header != "light")
     for view in views:
@@ -158,7 +158,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         light = [f"* {site_hm(roster, w.start)}–{site_hm(roster, w.end)} {escape(_source(w))} {lux_text(w.lux)} lx"
                  for w in view.bright]
         light += [f"o {site_hm(roster, w.start)}–{site_hm(roster, w.end)} glasses {w.lux:.0%}" for w in view.avoid]
-        cbt = NONE_TEXT if view.cbtmin is None else site_hm(roster, view.cbtmin) + (" ✓" if view.adapted else "")
+        cbt = NONE_TEXT if view.cbtmin is None else site_hm(roster, view.cbtmin) + (" in sleep" if view.adapted else "")
         table.add_row(day.date.strftime("%a %d %b"), shift, sleep, "\n".join(light) or NONE_TEXT, cbt,
                       f"{view.work_low_h:.1f}" if day.work is not None else NONE_TEXT)
     console.print(table)

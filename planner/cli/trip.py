@@ -121,7 +121,7 @@ def _error_cell(error: float, target: Place, named: bool) -> str:
         return NONE_TEXT
     where = f" {escape(target.name)}" if named else ""
     if abs(error) <= REENTRAINMENT_TOLERANCE_H:
-        return f"[green]{signed(error, 1)} h ✓[/green]{where}"
+        return f"[green]on target ({abs(error):.1f} h {'late' if error > 0 else 'early'})[/green]{where}"
     return f"{abs(error):.1f} h {'late' if error > 0 else 'early'}{where}"
 
 
@@ -135,8 +135,8 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                   caption=("Times on the local clock of where the traveller is (in flight: the departure "
                            "airport's); a zone name marks a time on another clock than the row's. CBTmin — : "
                            "the minimum moved past midnight that day. vs target: CBTmin against the entrained "
-                           f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; ✓ within "
-                           f"{REENTRAINMENT_TOLERANCE_H:g} h."))
+                           f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; on target: within "
+                           f"{REENTRAINMENT_TOLERANCE_H:g} h; ✓ marks only the recommended plan."))
     for header in ("day", "clock", "sleep", "bright light", "avoid light", "CBTmin", f"vs {aim}"):
         table.add_column(header, no_wrap=header in ("day", "clock", "CBTmin"), overflow="fold")
     for view in views:

@@ -87,8 +87,9 @@ from planner.intervals import count_text
 
 Strategy = Literal["nights", "compromise", "day"]
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
-STRATEGY_NAMES = {"nights": "full adaptation to nights", "compromise": "compromise phase position",
-                  "day": "stay day-oriented (anchor sleep)", "none": "no plan"}
+#: Strategy names say what the plan aims at, not what it achieves (the outcome columns say that).
+STRATEGY_NAMES = {"nights": "aims at full adaptation to nights", "compromise": "aims at a compromise phase position",
+                  "day": "aims to stay day-oriented (anchor sleep)", "none": "no plan"}
 #: Where each strategy comes from (shown with the plan's citations).
 STRATEGY_CITATIONS = {
     "nights": ("Smith MR et al. (2008). Night shift performance is improved by a compromise circadian phase "
@@ -877,7 +878,7 @@ def ranking_reason(ranked: Sequence[DraftResult]) -> str:
     """Plain words for why the first draft ranks first."""
     first = ranked[0]
     what = "median worker" if first.population is not None else "average worker"
-    text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
+    text = (f"{first.draft.name} with the plan that {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
             f"week of work in the circadian low or biological night spent awake for the {what}")
     if len(ranked) > 1:
         others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.best_strategy]})"

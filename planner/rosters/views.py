@@ -192,7 +192,7 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None)
             continue
         items.append(((a, b), days[owner].date, dict(
             kind="sleep", summary="Sleep", action="Lights out and eyes closed; keep the bedroom dark.",
-            purpose=(f"Sleep at these hours is part of the {STRATEGY_NAMES.get(plan.strategy, plan.strategy)} plan; "
+            purpose=(f"Sleep at these hours is part of the plan that {STRATEGY_NAMES.get(plan.strategy, plan.strategy)}; "
                      "closed eyes also keep light out at the wrong time."),
             source="sleep", lux=0.0, transmission=None)))
     for window in plan.bright + plan.avoid:
