@@ -89,7 +89,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                     caption=(f"score: hours per week of work within ±{LOW_HALF_WIDTH_H:g} h of CBTmin plus "
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
-                             "; no plan: the same draft without light measures."), caption_justify="left")
+                             "; no plan: the same draft without light measures, average worker."), caption_justify="left")
     for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day"):
         ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",

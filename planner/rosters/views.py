@@ -313,7 +313,9 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                                                      "for the average worker's plan")})
         recommended = len(comparison) - 1
     ranked = Section("Drafts ranked, least disruptive first",
-                     ("#", "draft", "pattern", "strategy", "score h/wk", "no plan"),
+                     ("#", "draft", "pattern", "strategy",
+                      "score h/wk" + (" (population)" if chosen.population else " (average worker)"),
+                      "no plan h/wk (average worker)"),
                      tuple((str(k + 1), d.draft.name, " ".join(c or "off" for c in d.draft.pattern) +
                             f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], score_text(d), f"{d.baseline.score:.1f}")
                            for k, d in enumerate(result.drafts)),
@@ -330,7 +332,7 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                                         ("mean days to adapt", pop.mean_days_to_adapt))),
             note=f"intrinsic periods from Duffy et al. 2011 (24.15 ± 0.20 h), seed {pop.seed}"))
     shifts = ", ".join(f"{s.code} {s.label} {_hm_clock(s.start_h)}–{_hm_clock(s.end_h)}" for s in roster.shifts)
-    summary = [("crew", info.name)]
+    summary = [("rotation", info.name)]
     if info.description:
         summary.append(("about", info.description))
     summary += [("site", f"{roster.site.name} ({roster.site.zone})"), ("shifts", shifts),
