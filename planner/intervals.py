@@ -22,3 +22,8 @@ def free_segments(start: datetime, end: datetime,
                 remaining.append((b, e))
         segments = remaining
     return sorted((s, e) for s, e in segments if e > s)
+
+
+def count_text(count: int, noun: str) -> str:
+    """``count`` with its noun in singular or plural, e.g. ``"1 day"``, ``"5 days"``."""
+    return f"{count} {noun}{'' if count == 1 else 's'}"

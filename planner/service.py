@@ -19,7 +19,7 @@ that cannot give a trustworthy result :class:`planner.errors.ComputationError`.
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import timezone
 from pathlib import Path
 from typing import Any, Literal
@@ -44,7 +44,7 @@ from planner.rosters.model import Roster
 from planner.rosters.scenario import RosterInfo, builtin_roster_paths, load_roster
 from planner.rosters.search import DraftResult, RosterEnsemble, RosterResult, roster_ensemble
 from planner.rosters.search import plan_roster as search_roster
-from planner.rosters.views import RosterDayView, document_from_roster
+from planner.rosters.views import CrewPlan, RosterDayView, crew_plans, document_from_roster
 from planner.tomlfile import InputFileError, Problem, read_toml
 from planner.trips import export as trip_export
 from planner.trips.document import document_from_trip
@@ -396,6 +396,7 @@ class RosterOutcome:
     chosen: DraftResult
     views: list[RosterDayView]
     ensemble: RosterEnsemble | None = None
+    crews: dict[str, CrewPlan] = field(default_factory=dict)
 
     @property
     def models_used(self) -> list[ModelSpec]:
@@ -403,7 +404,7 @@ class RosterOutcome:
         return [self.model] + [m.model for m in members if m.model.id != self.model.id]
 
     def document(self) -> PlanDocument:
-        return document_from_roster(self.roster, self.info, self.result, self.chosen, self.views)
+        return document_from_roster(self.roster, self.info, self.result, self.chosen, self.views, self.crews)
 
     def to_json(self) -> dict[str, Any]:
         """The JSON document of ``phaseplan roster --json`` (without ``schema_version``)."""
@@ -413,6 +414,7 @@ class RosterOutcome:
         document["command"] = request.command
         document["robust"] = roster_export.robust_entry(self.chosen)
         document["ensemble"] = roster_export.ensemble_entry(self.roster, self.ensemble)
+        document["crews"] = roster_export.crews_entry(self.roster, self.crews)
         document["citations"] = [citation_entry(m) for m in self.models_used]
         return document
 
@@ -446,7 +448,9 @@ def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None
     ensemble = None
     if request.models:
         ensemble = roster_ensemble(roster, chosen, [load_checked_model(name) for name in model_names(request.models)])
-    return RosterOutcome(request, roster, info, model, result, chosen, roster_export.draft_views(chosen), ensemble)
+    crews = crew_plans(roster, model, result, chosen)
+    return RosterOutcome(request, roster, info, model, result, chosen, roster_export.draft_views(chosen), ensemble,
+                         crews)
 
 
 # --------------------------------------------------------------------------- demos

@@ -18,6 +18,7 @@ import xml.etree.ElementTree as ElementTree
 from datetime import datetime, timedelta, timezone
 from zoneinfo import ZoneInfo
 
+import icalendar
 import pytest
 import vobject
 from test_calendar import night_document, to_second, vobject_events, vobject_read
@@ -27,7 +28,8 @@ from typer.testing import CliRunner
 from planner.cli import app
 from planner.errors import InputError
 from planner.plans.caldav import PublishError, publish
-from planner.plans.ics import calendar_bytes, event_uid
+from planner.plans.cautions import CAUTIONS, SHIFT_CAUTIONS, TRIP_CAUTIONS
+from planner.plans.ics import ABOUT_SUMMARY, calendar_bytes, event_uid
 from planner.trips.document import document_from_trip
 
 UTC = timezone.utc
@@ -114,22 +116,29 @@ def tokyo_calendar(planned_demos) -> bytes:
     return calendar_bytes(document_from_trip(trip, info, plan))
 
 
+def about_uid(data: bytes) -> str:
+    """UID of the all-day "About this plan" event of a calendar file."""
+    (about,) = [e for e in icalendar.Calendar.from_ical(data).walk("VEVENT") if str(e["SUMMARY"]) == ABOUT_SUMMARY]
+    return str(about["UID"])
+
+
 def test_radicale_accepts_every_event_and_returns_the_same_ones(collection, tokyo_calendar):
     result = publish(tokyo_calendar, collection, user=USER, password=PASSWORD)
     expected = vobject_events(tokyo_calendar)
-    assert set(result.created) == set(expected)
+    about = about_uid(tokyo_calendar)
+    assert set(result.created) == set(expected) | {about}
     # RFC 4918 §9.7.1 / RFC 4791 §5.3.2: a PUT that creates a resource answers 201 Created
     assert set(result.statuses.values()) == {201}
     stored = stored_events(collection)
-    assert set(stored) == set(expected)
-    for uid, event in stored.items():
+    assert set(stored) == set(expected) | {about}
+    for uid, event in ((uid, event) for uid, event in stored.items() if uid != about):
         start, end, triggers = expected[uid]
         assert event.dtstart.value.astimezone(UTC) == start
         assert event.dtend.value.astimezone(UTC) == end
         assert [alarm.trigger.value for alarm in event.contents.get("valarm", [])] == triggers
     again = publish(tokyo_calendar, collection, user=USER, password=PASSWORD)
     assert (again.created, again.updated, again.deleted) == ((), (), ())
-    assert set(again.unchanged) == set(expected)
+    assert set(again.unchanged) == set(expected) | {about}
 
 
 def test_republishing_updates_removes_dropped_and_leaves_others_alone(collection):
@@ -152,10 +161,11 @@ def test_republishing_updates_removes_dropped_and_leaves_others_alone(collection
     second = calendar_bytes(edited, previous=first)
     result = publish(second, collection, user=USER, password=PASSWORD)
     uid = {k: event_uid(plan.plan_id, f"night/{k}") for k in range(3)}
-    assert (result.unchanged, result.updated, result.deleted) == ((uid[0],), (uid[1],), (uid[2],))
+    about = about_uid(second)
+    assert (result.unchanged, result.updated, result.deleted) == ((about, uid[0]), (uid[1],), (uid[2],))
     assert result.others == 1
     stored = stored_events(collection)
-    assert set(stored) == {uid[0], uid[1], "dentist-1@example.org"}
+    assert set(stored) == {about, uid[0], uid[1], "dentist-1@example.org"}
     assert stored["dentist-1@example.org"].summary.value == "Dentist"
     assert stored[uid[1]].dtend.value.astimezone(UTC) == to_second(moved.end)
     assert int(stored[uid[1]].sequence.value) == 1  # RFC 5545 §3.8.7.4: revised once
@@ -177,8 +187,9 @@ def test_cli_publishes_with_the_password_from_the_environment(collection, tmp_pa
     result = CliRunner().invoke(app, ["publish", str(path), "--url", collection, "--user", USER, "--json"],
                                 env={"PHASEPLAN_CALDAV_PASSWORD": PASSWORD})
     assert result.exit_code == 0, result.stderr
-    assert f'"created": {len(vobject_events(tokyo_calendar))}' in result.stdout
-    assert len(stored_events(collection)) == len(vobject_events(tokyo_calendar))
+    # every timed event plus the all-day "About this plan" event
+    assert f'"created": {len(vobject_events(tokyo_calendar)) + 1}' in result.stdout
+    assert len(stored_events(collection)) == len(vobject_events(tokyo_calendar)) + 1
 
 
 def test_a_url_that_is_no_calendar_or_no_server(radicale, tokyo_calendar):
@@ -204,3 +215,37 @@ def test_without_a_password_and_no_terminal_the_cli_says_how_to_give_one(tmp_pat
                                 env={"PHASEPLAN_CALDAV_PASSWORD": None})
     line = assert_one_line_error(result, 2)
     assert "PHASEPLAN_CALDAV_PASSWORD" in line
+
+
+def test_published_events_carry_their_cautions_to_the_server(collection, tokyo_calendar, tmp_path):
+    """The cautions travel with the events: after publishing, what the server hands back holds every caution
+    in full (the About event) and each event's own one-line caution (science reference §6)."""
+    result = publish(tokyo_calendar, collection, user=USER, password=PASSWORD)
+    assert result.created
+    stored = stored_events(collection)   # read back by vobject, an independent parser (PyPI)
+    (about,) = [e for e in stored.values() if e.summary.value == ABOUT_SUMMARY]
+    text = about.description.value
+    for key in TRIP_CAUTIONS:
+        assert CAUTIONS[key].text in text, key
+    assert "doi:10.1177/074873099129000867" in text   # Forger, Jewett & Kronauer 1999, J Biol Rhythms 14:533
+    for event in stored.values():
+        if event is about:
+            continue
+        description = event.description.value
+        assert "Caution: " in description and ABOUT_SUMMARY in description, event.summary.value
+    # a shift rotation: night shifts carry the driving caution (Lee et al. 2016, PNAS 113:176), the day
+    # shifts do not
+    from test_roster_outputs import CRANES, run   # the invented harbour-cranes crew
+
+    written = run("roster", str(CRANES), "--draft", "fast 2-2-4", "--group", "B", "--ics", str(tmp_path / "b.ics"))
+    assert written.exit_code == 0, written.stderr
+    crew = f"{collection.rstrip('/')}-crew/"
+    assert call("MKCALENDAR", crew)[0] == 201
+    publish((tmp_path / "b.ics").read_bytes(), crew, user=USER, password=PASSWORD)
+    shifts = [e for e in stored_events(crew).values() if e.summary.value.startswith("Shift ")]
+    assert {"Shift D (day)", "Shift N (night)"} <= {e.summary.value for e in shifts}
+    for event in shifts:
+        night = "(night)" in event.summary.value
+        assert (CAUTIONS["night_shift_driving"].short in event.description.value) == night
+    (about,) = [e for e in stored_events(crew).values() if e.summary.value == ABOUT_SUMMARY]
+    assert all(CAUTIONS[key].text in about.description.value for key in SHIFT_CAUTIONS)

@@ -74,10 +74,13 @@ def night_document(bed: datetime, wake: datetime, zone=BERLIN, plan_id: str = "t
 
 
 def icalendar_events(data: bytes) -> dict[str, tuple[datetime, datetime, list[timedelta]]]:
-    """UID -> (start UTC, end UTC, alarm triggers) as icalendar reads them."""
+    """UID -> (start UTC, end UTC, alarm triggers) of the timed events as icalendar reads them (the all-day
+    "About this plan" event is checked on its own)."""
     calendar = icalendar.Calendar.from_ical(data)
     found = {}
     for event in calendar.walk("VEVENT"):
+        if not isinstance(event.get("DTSTART").dt, datetime):
+            continue
         triggers = [alarm.get("TRIGGER").dt for alarm in event.walk("VALARM")]
         found[str(event.get("UID"))] = (event.get("DTSTART").dt.astimezone(UTC), event.get("DTEND").dt.astimezone(UTC),
                                         triggers)
@@ -103,10 +106,13 @@ def vobject_read(text: str):
 
 
 def vobject_events(data: bytes) -> dict[str, tuple[datetime, datetime, list[timedelta]]]:
-    """UID -> (start UTC, end UTC, alarm triggers) as vobject (an independent parser) reads them."""
+    """UID -> (start UTC, end UTC, alarm triggers) of the timed events as vobject (an independent parser)
+    reads them."""
     calendar = vobject_read(data.decode("utf-8"))
     found = {}
     for event in calendar.contents.get("vevent", []):
+        if not isinstance(event.dtstart.value, datetime):
+            continue
         triggers = [alarm.trigger.value for alarm in event.contents.get("valarm", [])]
         found[event.uid.value] = (event.dtstart.value.astimezone(UTC), event.dtend.value.astimezone(UTC), triggers)
     return found
@@ -114,6 +120,16 @@ def vobject_events(data: bytes) -> dict[str, tuple[datetime, datetime, list[time
 
 def to_second(moment: datetime) -> datetime:
     return moment.astimezone(UTC).replace(microsecond=0)
+
+
+def to_minute(moment: datetime) -> datetime:
+    """An instant rounded to the nearest whole minute, as calendars write event times."""
+    return (moment.astimezone(UTC) + timedelta(seconds=30)).replace(second=0, microsecond=0)
+
+
+def timed_events(calendar: icalendar.Calendar) -> list:
+    """The plan's timed VEVENTs (without the all-day "About this plan" event)."""
+    return [e for e in calendar.walk("VEVENT") if isinstance(e.get("DTSTART").dt, datetime)]
 
 
 # --------------------------------------------------------------------------- reading back
@@ -127,8 +143,9 @@ def test_trip_calendar_reads_back_identically_with_icalendar_and_vobject(tokyo):
     assert ours == theirs
     for event in document.events:
         start, end, triggers = ours[event_uid(document.plan_id, event.key)]
-        assert (start, end) == (to_second(event.start), to_second(event.end))
+        assert (start, end) == (to_minute(event.start), to_minute(event.end))
         # RFC 5545 §3.8.6.3: a negative TRIGGER duration fires before the start; 15 min is the default
+        # for the actions the person takes (every event of a trip: sleep, light, glasses)
         assert triggers == [timedelta(minutes=-15)]
 
 
@@ -136,7 +153,8 @@ def test_every_time_carries_a_zone_never_floating(tokyo):
     _, document = tokyo
     text = calendar_bytes(document).decode("utf-8").replace("\r\n ", "").replace("\r\n", "\n")
     # VTIMEZONE observances are local by definition (RFC 5545 §3.6.5); the events' times are checked
-    events = "\n".join(re.findall(r"^BEGIN:VEVENT$.*?^END:VEVENT$", text, flags=re.M | re.S))
+    blocks = re.findall(r"^BEGIN:VEVENT$.*?^END:VEVENT$", text, flags=re.M | re.S)
+    events = "\n".join(block for block in blocks if "DTSTART;VALUE=DATE:" not in block)
     times = re.findall(r"^(DTSTART|DTEND|DTSTAMP|LAST-MODIFIED)([;:].*)$", events, flags=re.M)
     assert len(times) == 4 * len(document.events)
     for name, rest in times:
@@ -147,7 +165,7 @@ def test_every_time_carries_a_zone_never_floating(tokyo):
 def test_each_used_zone_has_one_vtimezone_covering_only_the_plan(tokyo):
     _, document = tokyo
     calendar = icalendar.Calendar.from_ical(calendar_bytes(document))
-    used = {str(e.get("DTSTART").params["TZID"]) for e in calendar.walk("VEVENT")}
+    used = {str(e.get("DTSTART").params["TZID"]) for e in timed_events(calendar)}
     zones = [str(z.get("TZID")) for z in calendar.walk("VTIMEZONE")]
     # RFC 5545 §3.6.5: every TZID referenced needs its VTIMEZONE; the trip is Lisbon -> Tokyo
     assert sorted(zones) == sorted(used) == ["Asia/Tokyo", "Europe/Lisbon"]
@@ -164,7 +182,7 @@ def test_trip_events_switch_tzid_at_the_flight(tokyo):
     flight = trip.flights[0]
     calendar = icalendar.Calendar.from_ical(calendar_bytes(document))
     zones_seen = []
-    for event in calendar.walk("VEVENT"):
+    for event in timed_events(calendar):
         start = event.get("DTSTART").dt
         tzid = str(event.get("DTSTART").params["TZID"])
         instant = start.astimezone(UTC)
@@ -251,7 +269,7 @@ def test_sequence_rises_only_for_changed_events():
     again = calendar_bytes(moved, previous=changed, now=datetime(2027, 4, 1, tzinfo=UTC))
 
     def sequence_and_stamp(data):
-        (event,) = icalendar.Calendar.from_ical(data).walk("VEVENT")
+        (event,) = timed_events(icalendar.Calendar.from_ical(data))
         return int(event.get("SEQUENCE")), event.get("DTSTAMP").dt
 
     # RFC 5545 §3.8.7.4: SEQUENCE starts at 0 and is incremented when the event is revised
@@ -272,8 +290,9 @@ def test_descriptions_carry_action_light_reason_and_caution(tokyo):
     assert "What to do:" in text and "lux at the eye" in text and "Why:" in text
     # the east-bound plan advances: light after CBTmin (Khalsa et al. 2003, J Physiol 549:945)
     assert "earlier (a phase advance)" in text
-    assert CAUTIONS["bright_light"].short in text
-    assert "Full cautions" in text
+    # daylight outdoors carries the daylight caution, not the light box's (common practice, no single source)
+    assert "(daylight)" in text and CAUTIONS["daylight"].short in text and "light box" not in text.split("Caution:")[1]
+    assert "Full cautions" in text and "About this plan" in text
     whole = str(calendar.get("DESCRIPTION"))
     for key in TRIP_CAUTIONS:
         assert CAUTIONS[key].text in whole
@@ -362,8 +381,8 @@ def test_cli_writes_a_calendar_and_refuses_to_overwrite_it(stored_plans, tmp_pat
     result = run("demo", SHORT_DEMO, "--ics", str(target), "--force", "--alarm-minutes", "30")
     assert result.exit_code == 0, result.stderr
     second = icalendar.Calendar.from_ical(target.read_bytes())
-    assert {str(e.get("UID")) for e in second.walk("VEVENT")} == set(icalendar_events(first))
-    assert {int(e.get("SEQUENCE")) for e in second.walk("VEVENT")} == {1}
+    assert {str(e.get("UID")) for e in timed_events(second)} == set(icalendar_events(first))
+    assert {int(e.get("SEQUENCE")) for e in timed_events(second)} == {1}
     assert {alarm.get("TRIGGER").dt for alarm in second.walk("VALARM")} == {timedelta(minutes=-30)}
 
     result = run("demo", SHORT_DEMO, "--ics", str(target), "--force", "--no-alarms")

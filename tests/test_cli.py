@@ -41,7 +41,7 @@ def one_json_document(text: str) -> dict:
     """The single JSON document that makes up ``text``; fails on anything before or after it."""
     document, end = json.JSONDecoder().raw_decode(text.lstrip())
     assert text.lstrip()[end:].strip() == "", "more than one JSON document (or trailing text) on stdout"
-    assert document["schema_version"] == 1
+    assert document["schema_version"] == 2
     return document
 
 

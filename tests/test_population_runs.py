@@ -162,9 +162,9 @@ def test_trip_json_carries_population_robust_and_ensemble(six_east, monkeypatch)
                                       "--robust", "--models", "forger1999,jewett1999", "--json"])
     assert result.exit_code == 0, result.stderr
     document = json.loads(result.stdout)   # exactly one JSON document on stdout (house rule)
-    assert document["schema_version"] == 1
+    assert document["schema_version"] == 2
     population = document["population"]
-    assert population["n"] == 12 and population["seed"] == 2
+    assert population["people"] == 12 and population["seed"] == 2
     assert population["distribution"]["tau_h"]["mean_h"] == 24.15   # Duffy et al. 2011, PNAS 108:15602
     plans = population["plans"]
     assert set(plans) == {"recommended", "robust", "no_plan"}

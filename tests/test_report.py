@@ -147,7 +147,7 @@ def test_cli_writes_report_and_chart_and_refuses_to_overwrite(stored_plans, tmp_
     result = run("demo", "madrid-newyork-short", "--report", str(report), "--chart", str(chart), "--json")
     assert result.exit_code == 0, result.stderr
     written = one_json_document(result.stdout)["written"]
-    assert written == {"ics": [], "report": str(report), "chart": str(chart)}
+    assert written == {"ics": [], "report": str(report), "chart": [str(chart)]}
     assert report.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
     assert chart.read_bytes().startswith(b"\x89PNG\r\n\x1a\n")  # PNG signature (PNG spec §5.2)
     result = run("demo", "madrid-newyork-short", "--report", str(report))

@@ -202,21 +202,21 @@ def test_demo_roster_runs_from_the_command_line(path):
     result = CliRunner().invoke(app, ["roster", str(path), "--workers", "30", "--seed", "5", "--json"])
     assert result.exit_code == 0, result.stderr
     document = json.loads(result.stdout)   # exactly one JSON document on stdout (house rule)
-    assert document["schema_version"] == 1
+    assert document["schema_version"] == 2
     ranking = document["ranking"]
     assert len(ranking) >= 2   # each demo compares at least two drafts (the issue)
     scores = [r["rank_score_h_per_week"] for r in ranking]
     assert scores == sorted(scores)   # ranked least disruptive first
     for entry in ranking:
-        assert entry["population"]["workers"] == 30
+        assert entry["population"]["people"] == 30
         spread = entry["population"]["disruption_score_h_per_week"]
         assert spread["p10"] <= spread["median"] <= spread["p90"]
         # Duffy et al. 2011, PNAS 108:15602: the drawn periods' median near 24.15 h
         assert abs(entry["population"]["intrinsic_period"]["drawn_h"]["median"] - 24.15) < 0.15
-    days = document["plan"]["days"]
+    days = document["days"]
     assert len(document["chart"]["lines"]) == len(days) + 2
     assert {c["key"] for c in document["cautions"]} >= {"bright_light", "clinician"}
-    assert "Lee et al. 2016" in json.dumps(document["cautions"])   # drowsy driving after nights
+    assert "Lee ML et al. 2016" in json.dumps(document["cautions"])   # drowsy driving after nights
     assert document["citations"][0]["doi"]
     again = CliRunner().invoke(app, ["roster", str(path), "--workers", "30", "--seed", "5", "--json"])
     assert json.loads(again.stdout)["ranking"] == ranking   # reproducible for a fixed seed

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import icalendar
 import pytest
-from test_calendar import icalendar_events, to_second, vobject_events  # shared readers of calendar files
+from test_calendar import icalendar_events, timed_events, to_second, vobject_events  # shared readers of calendar files
 from test_report import PROBE, browser, headless
 from typer.testing import CliRunner
 
@@ -44,11 +44,11 @@ def test_one_calendar_per_crew_reads_back_identically_with_icalendar_and_vobject
         assert ours.keys() == theirs.keys() and len(ours) > 40
         for uid, (start, end, alarms) in ours.items():
             assert (to_second(start), to_second(end)) == (to_second(theirs[uid][0]), to_second(theirs[uid][1]))
-            assert alarms == theirs[uid][2] and len(alarms) == 1
+            assert alarms == theirs[uid][2] and len(alarms) <= 1   # none on shifts (tests/test_handouts.py)
         assert not uids & ours.keys()   # RFC 5545 §3.8.4.7: UIDs are globally unique
         uids |= ours.keys()
         calendar = icalendar.Calendar.from_ical(data)
-        events = list(calendar.walk("VEVENT"))
+        events = timed_events(calendar)   # the all-day "About this plan" event has a date, not a time
         # every time carries the site's zone (RFC 5545 §3.2.19 TZID), never floating
         assert all(e["DTSTART"].params.get("TZID") == "Europe/Amsterdam" for e in events)
         kinds = {str(c) for e in events for c in e.get("CATEGORIES").cats}   # RFC 5545 §3.8.1.2 CATEGORIES
@@ -99,7 +99,7 @@ def test_roster_report_shows_drafts_population_cautions_and_renders(written, tmp
     page = (folder / "crane.html").read_text(encoding="utf-8")
     assert "Drafts ranked" in page and "slow 4-4-4-4" in page and "fast 2-2-4" in page
     assert "simulated workers" in page and "Duffy" in page   # the population spread and its source
-    assert "Lee et al. 2016" in page   # driving after night shifts (science reference §6)
+    assert "Lee ML et al. 2016" in page   # driving after night shifts (science reference §6)
     assert not re.search(r"""(src|href)=["']https?:""", page)   # self-contained
     executable = browser()
     probe = tmp_path / "probe.html"
@@ -119,7 +119,7 @@ def test_robust_roster_plan_beside_the_average_workers_plan(tmp_path):
     assert first.exit_code == 0, first.stderr
     robust = json.loads(first.stdout)["robust"]
     assert robust == json.loads(again.stdout)["robust"]   # reproducible for a fixed seed (common practice)
-    assert robust["workers"] == 32 and robust["candidates"] > 10
+    assert robust["people"] == 32 and robust["candidates"] > 10
     average = robust["average_worker_plan"]
     # The 90th percentile lies above the mean for both plans: workers with periods far from the average
     # carry more of the burden (Duffy et al. 2011 spread; a right-skewed score).

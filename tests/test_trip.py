@@ -330,10 +330,10 @@ def test_demo_json_carries_the_plan(stored_plans):
     assert document["simulated"] == plan.simulated > 0
     assert set(document["alternatives"]) == {"advance", "delay"}
     for entry in [document["baseline"], *document["alternatives"].values()]:
-        for key in ("reentrainment_days", "direction", "net_shift_h"):
+        for key in ("reentrainment_days", "direction", "net_phase_shift_h"):
             assert key in entry
     for entry in document["alternatives"].values():
-        for key in ("box_minutes", "near_low_amplitude", "refined"):
+        for key in ("light_box_minutes", "near_low_amplitude", "refined"):
             assert key in entry
     assert document["baseline"]["direction"] == plan.baseline.direction
     assert len(document["days"]) == len(trip_days(trip))
@@ -353,7 +353,9 @@ def test_demo_json_carries_the_plan(stored_plans):
     assert {d["time_zone"] for d in document["days"]} == {"Europe/Lisbon", "Asia/Tokyo"}
     sources = [source for caution in document["cautions"] for source in caution["sources"]]
     # caution sources (the project's science reference, section 6)
-    assert "Terman & Terman 2005, CNS Spectrums" in sources and "Lee et al. 2016, PNAS 113:176" in sources
+    # the papers' own bibliographic data (CNS Spectrums 10(8); PNAS 113(1):176-181)
+    assert any(s.startswith("Terman M, Terman JS 2005") and "CNS Spectrums" in s for s in sources)
+    assert any(s.startswith("Lee ML et al. 2016") and "PNAS 113(1):176" in s for s in sources)
 
 
 def test_trip_human_output_goes_to_stderr(stored_plans):

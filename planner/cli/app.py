@@ -110,7 +110,7 @@ def _version_callback(value: bool) -> None:
 @app.callback(invoke_without_command=True)
 def _root(
     ctx: typer.Context,
-    version: Annotated[bool, typer.Option("--version", is_eager=True, callback=_version_callback,
+    version: Annotated[bool, typer.Option("--version", metavar="", is_eager=True, callback=_version_callback,
                                           help="Print the version and exit.")] = False,
 ) -> None:
     """Simulate human circadian phase with published models driven by the light a person sees."""

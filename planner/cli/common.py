@@ -26,10 +26,11 @@ from rich.table import Table
 from planner.engine.parameters import ModelSpec, available_models
 from planner.plans.cautions import Caution
 from planner.plans.entries import SCHEMA_VERSION
+from planner.plans.ics import DEFAULT_ALARM_KINDS
 from planner.trips.robust import SEARCH_PEOPLE
 
 JsonOption = Annotated[bool, typer.Option(
-    "--json", help="Write one JSON document (schema_version 1) to stdout instead of tables on stderr.")]
+    "--json", metavar="", help="Write one JSON document (schema_version 1) to stdout instead of tables on stderr.")]
 ModelOption = Annotated[str, typer.Option(
     "--model", "-m", metavar="ID_OR_PATH",
     help=f"Built-in model id ({', '.join(available_models())}) or the path of a model .toml file.")]
@@ -89,12 +90,25 @@ ReportOption = Annotated[Path | None, typer.Option(
 ChartOption = Annotated[Path | None, typer.Option(
     "--chart", metavar="FILE.png|svg", help="Write the phase chart alone (PNG or SVG, by the file's suffix).")]
 ForceOption = Annotated[bool, typer.Option(
-    "--force", help="Replace existing --ics/--report/--chart files (an existing calendar's SEQUENCE numbers "
+    "--force", metavar="", help="Replace existing --ics/--report/--chart files (an existing calendar's SEQUENCE numbers "
                     "are carried on).")]
 AlarmOption = Annotated[float, typer.Option(
     "--alarm-minutes", metavar="MIN", min=0, max=1440,
     help="Calendar reminder this many minutes before each event.")]
-NoAlarmsOption = Annotated[bool, typer.Option("--no-alarms", help="Calendar events without reminders.")]
+NoAlarmsOption = Annotated[bool, typer.Option("--no-alarms", metavar="", help="Calendar events without reminders.")]
+#: Default of --alarm-for: the actions the person takes (planner.plans.ics.DEFAULT_ALARM_KINDS).
+DEFAULT_ALARM_FOR = ",".join(DEFAULT_ALARM_KINDS)
+AlarmKindsOption = Annotated[str, typer.Option(
+    "--alarm-for", metavar="KINDS",
+    help=("Event kinds that get a reminder, comma-separated from sleep (going to bed), bright_light, "
+          "light_avoidance, work; default: the actions the person takes, not shifts."))]
+PaperOption = Annotated[str, typer.Option(
+    "--paper", metavar="A4|letter", help="Page size of the report's print rules (the content fits both).")]
+
+
+def alarm_kinds(text: str) -> tuple[str, ...]:
+    """The --alarm-for list as kinds (checked when the files are checked)."""
+    return tuple(part.strip() for part in text.split(",") if part.strip())
 
 
 #: For planners whose documents have groups (rosters): write only this group's calendar.
@@ -112,7 +126,7 @@ PeopleOption = Annotated[int, typer.Option(
           "how likely the plan works; 0 = off."))]
 SeedOption = Annotated[int, typer.Option("--seed", metavar="S", min=0, help="Seed of the population draw (same seed, same people).")]
 RobustOption = Annotated[bool, typer.Option(
-    "--robust", help=(f"Also search a plan robust to who the traveller is, scored over {SEARCH_PEOPLE} simulated "
+    "--robust", metavar="", help=(f"Also search a plan robust to who the traveller is, scored over {SEARCH_PEOPLE} simulated "
                       "people, and show it beside the average-person plan."))]
 ModelsOption = Annotated[str | None, typer.Option(
     "--models", metavar="LIST",
@@ -128,7 +142,7 @@ def print_cautions(console: Console, cautions: Sequence[Caution], models: Sequen
     console.print("\n[bold]Cautions[/bold]")
     for caution in cautions:
         console.print(f"  • [bold]{escape(caution.title)}.[/bold] {escape(caution.text)} "
-                      f"[dim]({escape('; '.join(caution.sources))})[/dim]")
+                      f"[dim]{escape(caution.source_note)}[/dim]")
     print_citations(console, models)
 
 

@@ -24,7 +24,11 @@ from planner.cli.common import (
     GroupOption,
     IcsOption,
     JsonOption,
+    DEFAULT_ALARM_FOR,
+    AlarmKindsOption,
     NoAlarmsOption,
+    PaperOption,
+    alarm_kinds,
     ReportOption,
     emit_json,
     model_list,
@@ -52,6 +56,7 @@ from planner.rosters.search import (
 )
 from planner.rosters.views import chart_legend, score_text, text_chart
 from planner.world.light import Window
+from planner.intervals import count_text
 
 
 class RosterStrategy(str, Enum):
@@ -84,15 +89,15 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                     caption=(f"score: hours per week of work within ±{LOW_HALF_WIDTH_H:g} h of CBTmin plus "
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
-                             "; no plan: the same draft without light measures."), caption_justify="left")
+                             "; no plan: the same draft without light measures, average worker."), caption_justify="left")
     for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day"):
         ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
                            "sleep outside the biological night (not scored); nights adapt: mean days from the first night "
-                           "of a run until CBTmin falls inside sleep; unadapted: runs of nights in which it never does."),
+                           "of a run until CBTmin falls inside sleep; never adapted: runs of nights in which it never does."),
                   caption_justify="left")
-    for header in ("draft", "low h/wk", "awake h/wk", "out of phase", "nights adapt", "unadapted"):
+    for header in ("draft", "low h/wk", "awake h/wk", "out of phase", "nights adapt", "never adapted"):
         parts.add_column(header, no_wrap=header != "draft")
     for k, d in enumerate(result.drafts):
         m = d.best.metrics
@@ -142,8 +147,8 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                         + (" (robust)" if chosen.robust is not None else ""),
                   box=box.SIMPLE_HEAD, title_justify="left", caption_justify="left",
                   caption=(f"Times on the site's clock ({escape(str(roster.site.zone))}). light: * bright light "
-                           "(light box or daylight), o dark glasses. CBTmin: that of the night after the day; ✓ "
-                           f"inside sleep (adapted). low: hours of the shift within ±{LOW_HALF_WIDTH_H:g} h of CBTmin."))
+                           "(light box or daylight), o dark glasses. CBTmin: that of the night after the day; in sleep: "
+                           f"it falls inside a sleep (adapted). low: hours of the shift within ±{LOW_HALF_WIDTH_H:g} h of CBTmin."))
     for header in ("day", "shift", "sleep", "light", "CBTmin", "low"):
         table.add_column(header, no_wrap=header != "light")
     for view in views:
@@ -153,7 +158,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         light = [f"* {site_hm(roster, w.start)}–{site_hm(roster, w.end)} {escape(_source(w))} {lux_text(w.lux)} lx"
                  for w in view.bright]
         light += [f"o {site_hm(roster, w.start)}–{site_hm(roster, w.end)} glasses {w.lux:.0%}" for w in view.avoid]
-        cbt = NONE_TEXT if view.cbtmin is None else site_hm(roster, view.cbtmin) + (" ✓" if view.adapted else "")
+        cbt = NONE_TEXT if view.cbtmin is None else site_hm(roster, view.cbtmin) + (" in sleep" if view.adapted else "")
         table.add_row(day.date.strftime("%a %d %b"), shift, sleep, "\n".join(light) or NONE_TEXT, cbt,
                       f"{view.work_low_h:.1f}" if day.work is not None else NONE_TEXT)
     console.print(table)
@@ -189,7 +194,7 @@ def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensem
         dates = ", ".join(chosen.days[d].date.strftime("%d %b") for d in ensemble.disagree_days[:8])
         more = f" and {len(ensemble.disagree_days) - 8} more" if len(ensemble.disagree_days) > 8 else ""
         console.print(f"  [yellow]models disagree[/yellow] by more than {ENSEMBLE_TOLERANCE_H:g} h on CBTmin on "
-                      f"{len(ensemble.disagree_days)} day(s): {dates}{more}; scores {low:.1f}–{high:.1f} h/wk")
+                      f"{count_text(len(ensemble.disagree_days), 'day')}: {dates}{more}; scores {low:.1f}–{high:.1f} h/wk")
     else:
         console.print(f"  the models agree within {ENSEMBLE_TOLERANCE_H:g} h on every day's CBTmin; scores "
                       f"{low:.1f}–{high:.1f} h/wk")
@@ -212,17 +217,17 @@ def roster_command(
         help=("auto: search full adaptation to nights, the compromise phase position and staying day-oriented, "
               "keep the least disruptive per draft; or one of them."))] = RosterStrategy.auto,
     workers: Annotated[int, typer.Option(
-        "--workers", "-w", min=0, max=20_000,
+        "--people", "--workers", "-w", metavar="N", min=0, max=20_000,
         help="Also simulate this many workers with intrinsic periods drawn from Duffy et al. 2011 (0: average "
              "worker only).")] = 0,
-    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the population draw (reproducible).")] = 0,
+    seed: Annotated[int, typer.Option("--seed", metavar="S", min=0, help="Seed of the population draw (reproducible).")] = 0,
     model_name: Annotated[str | None, typer.Option(
         "--model", "-m", metavar="ID_OR_PATH",
         help="Model to use instead of the scenario's own (a built-in id or a model .toml file).")] = None,
     draft: Annotated[str | None, typer.Option(
         "--draft", metavar="NAME", help="Show the day-by-day plan of this draft (default: the top-ranked).")] = None,
     robust: Annotated[bool, typer.Option(
-        "--robust", help=("Score every candidate plan over a population of simulated workers (intrinsic period and "
+        "--robust", metavar="", help=("Score every candidate plan over a population of simulated workers (intrinsic period and "
                           "light sensitivity drawn) and recommend the least disruptive on average; the average "
                           "worker's plan is shown beside it."))] = False,
     models_list: Annotated[str | None, typer.Option(
@@ -237,11 +242,14 @@ def roster_command(
     alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
     no_alarms: NoAlarmsOption = False,
     group: GroupOption = None,
+    alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
+    paper: PaperOption = "A4",
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
                                     model_list(models_list), group)
-    run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group))
+    run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group,
+                                            alarm_kinds(alarm_for), paper))
 
 
 def run_roster(request: service.RosterRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:

@@ -25,7 +25,11 @@ from planner.cli.common import (
     IcsOption,
     JsonOption,
     ModelsOption,
+    DEFAULT_ALARM_FOR,
+    AlarmKindsOption,
     NoAlarmsOption,
+    PaperOption,
+    alarm_kinds,
     PeopleOption,
     ReportOption,
     RobustOption,
@@ -117,7 +121,7 @@ def _error_cell(error: float, target: Place, named: bool) -> str:
         return NONE_TEXT
     where = f" {escape(target.name)}" if named else ""
     if abs(error) <= REENTRAINMENT_TOLERANCE_H:
-        return f"[green]{signed(error, 1)} h ✓[/green]{where}"
+        return f"[green]on target ({abs(error):.1f} h {'late' if error > 0 else 'early'})[/green]{where}"
     return f"{abs(error):.1f} h {'late' if error > 0 else 'early'}{where}"
 
 
@@ -131,8 +135,8 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                   caption=("Times on the local clock of where the traveller is (in flight: the departure "
                            "airport's); a zone name marks a time on another clock than the row's. CBTmin — : "
                            "the minimum moved past midnight that day. vs target: CBTmin against the entrained "
-                           f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; ✓ within "
-                           f"{REENTRAINMENT_TOLERANCE_H:g} h."))
+                           f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; on target: within "
+                           f"{REENTRAINMENT_TOLERANCE_H:g} h; ✓ marks only the recommended plan."))
     for header in ("day", "clock", "sleep", "bright light", "avoid light", "CBTmin", f"vs {aim}"):
         table.add_column(header, no_wrap=header in ("day", "clock", "CBTmin"), overflow="fold")
     for view in views:
@@ -311,11 +315,13 @@ def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoi
                  models_list: ModelsOption = None, by_day: ByDayOption = None, json_out: JsonOption = False,
                  ics: IcsOption = None, report: ReportOption = None, chart: ChartOption = None,
                  force: ForceOption = False, alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
-                 no_alarms: NoAlarmsOption = False) -> None:
+                 no_alarms: NoAlarmsOption = False, alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
+                 paper: PaperOption = "A4") -> None:
     """Plan a trip scenario (help text on the decorator)."""
     request = service.TripRequest(path, StrategyChoice(strategy).value, model_name, people, seed, robust,
                                   model_list(models_list), by_day)
-    run_trip(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
+    run_trip(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms,
+                                          alarm_kinds=alarm_kinds(alarm_for), paper=paper))
 
 
 @app.command("demo", help=(
@@ -330,7 +336,7 @@ def demo(
     robust: RobustOption = False,
     models_list: ModelsOption = None,
     by_day: ByDayOption = None,
-    list_demos: Annotated[bool, typer.Option("--list", help="List the demo trips and exit.")] = False,
+    list_demos: Annotated[bool, typer.Option("--list", metavar="", help="List the demo trips and exit.")] = False,
     json_out: JsonOption = False,
     ics: IcsOption = None,
     report: ReportOption = None,
@@ -338,13 +344,16 @@ def demo(
     force: ForceOption = False,
     alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
     no_alarms: NoAlarmsOption = False,
+    alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
+    paper: PaperOption = "A4",
 ) -> None:
     """Run a demo trip or roster (help text on the decorator)."""
     if list_demos:
         _list_demos(json_out)
         return
     chosen = service.demo(name)
-    files = PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms)
+    files = PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, alarm_kinds=alarm_kinds(alarm_for),
+                      paper=paper)
     if chosen.kind == "roster":
         if StrategyChoice(strategy) != StrategyChoice.auto:
             raise InputError(f"--strategy {StrategyChoice(strategy).value} is for trips; plan a roster with "

@@ -21,7 +21,8 @@ class Caution:
     text : str
         The full caution.
     sources : tuple of str
-        Where the text comes from (the project's science reference, section 6).
+        Where the text comes from (the project's science reference, section 6); empty for a plain
+        statement of what the plan is and whom it defers to.
     short : str
         One line for places with little room (calendar event descriptions); it points to the
         full text.
@@ -32,6 +33,11 @@ class Caution:
     text: str
     sources: tuple[str, ...]
     short: str
+
+    @property
+    def source_note(self) -> str:
+        """The sources in brackets, e.g. ``"(Lee ML et al. 2016, ...)"``; empty without sources."""
+        return f"({'; '.join(self.sources)})" if self.sources else ""
 
     def as_dict(self) -> dict:
         return {"key": self.key, "title": self.title, "text": self.text, "short": self.short,
@@ -55,9 +61,20 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "the eye for about 30 minutes. People with retinal disease, macular degeneration, porphyria, lupus or "
         "other photosensitive conditions, or who take photosensitising drugs, should see an eye or skin "
         "specialist first. Bright light can trigger hypomania or mania in bipolar disorder.",
-        ("Terman & Terman 2005, CNS Spectrums", "consensus cautionary notes of light-therapy clinicians"),
+        ("Terman M, Terman JS 2005, Light therapy for seasonal and nonseasonal depression: efficacy, protocol, "
+         "safety, and side effects. CNS Spectrums 10(8)",),
         "UV-filtered light box, do not stare into it; with eye disease, photosensitivity or bipolar disorder "
         "ask a specialist first.",
+    ),
+    Caution(
+        "daylight",
+        "Daylight outdoors",
+        "Daylight reaches the eye without looking at the sun: never look straight at it. Protect the skin as "
+        "usual in strong sun. The plan asks for no sunglasses during these minutes; keep them on wherever glare "
+        "makes it unsafe to see (driving, snow, water). The same eye and photosensitivity cautions as for a light "
+        "box apply.",
+        ("common practice, no single source",),
+        "Do not look at the sun; keep sunglasses on wherever glare is unsafe (driving, snow, water).",
     ),
     Caution(
         "dark_glasses",
@@ -73,7 +90,8 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "Overnight flights, night shifts and moved bedtimes cost sleep. Do not drive when drowsy: in a "
         "driving study, near-crashes occurred in 37.5% of drives after a night shift and in none after a "
         "night's sleep. Plan another way home (or from the airport) after a short night.",
-        ("Lee et al. 2016, PNAS 113:176",),
+        ("Lee ML et al. 2016, High risk of near-crash driving events following night-shift work. PNAS "
+         "113(1):176-181",),
         "Do not drive when drowsy; plan another way home after a short night.",
     ),
     Caution(
@@ -82,7 +100,8 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "Melatonin is not planned by phaseplan. It is regulated as a medicine in some countries and sold as a "
         "supplement in others, and product content varies widely from the label. Do not drive after a dose; "
         "discuss it with a clinician, especially with epilepsy or anticoagulants.",
-        ("Erland & Saxena 2017, J Clin Sleep Med",),
+        ("Erland LAE, Saxena PK 2017, Melatonin natural health products and supplements: presence of serotonin "
+         "and significant variability of melatonin content. J Clin Sleep Med 13(2)",),
         "Melatonin is not part of this plan; discuss it with a clinician and never drive after a dose.",
     ),
     Caution(
@@ -91,7 +110,8 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "In a driving study, near-crashes occurred in 37.5% of drives after a night shift and in none after a "
         "night's sleep. Plan another way home after a night shift (public transport, a lift, a nap before "
         "driving).",
-        ("Lee et al. 2016, PNAS 113:176",),
+        ("Lee ML et al. 2016, High risk of near-crash driving events following night-shift work. PNAS "
+         "113(1):176-181",),
         "After a night shift, plan another way home than driving yourself.",
     ),
     Caution(
@@ -99,7 +119,7 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "Every plan defers to a clinician",
         "This plan is a model prediction, not medical advice. It defers to a licensed clinician, to the "
         "employer's fatigue-risk rules and to local regulations.",
-        ("project policy",),
+        (),
         "A model prediction, not medical advice; a clinician and the employer's fatigue rules come first.",
     ),
     Caution(
@@ -108,21 +128,34 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "A rotation plan is a model prediction for planning, not a fitness-for-duty assessment. The employer's "
         "fatigue-risk management rules, working-time regulations and occupational-health advice come first; "
         "workers with sleep disorders or health conditions see a clinician.",
-        ("project policy",),
+        (),
         "Fatigue-risk rules, working-time law and occupational-health advice come first.",
     ),
 )}
 
 #: The cautions a trip plan shows, in order.
-TRIP_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "dark_glasses", "sleep_loss", "melatonin", "clinician")
+TRIP_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss", "melatonin",
+                                  "clinician")
 
 #: The cautions a shift-rotation plan shows, in order.
-SHIFT_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "dark_glasses", "sleep_loss", "night_shift_driving",
-                                   "clinician", "fatigue_rules")
+SHIFT_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss",
+                                   "night_shift_driving", "clinician", "fatigue_rules")
 
-#: The caution a calendar event of each kind carries as its one-line warning.
-EVENT_CAUTION: dict[str, str] = {"sleep": "sleep_loss", "bright_light": "bright_light",
-                                 "light_avoidance": "dark_glasses", "work": "night_shift_driving"}
+#: The caution a calendar event carries by default, by kind; bright light from daylight carries "daylight"
+#: instead (:func:`event_caution`); a work event names its own (a night shift's driving caution).
+EVENT_CAUTION: dict[str, str | None] = {"sleep": "sleep_loss", "bright_light": "bright_light",
+                                        "light_avoidance": "dark_glasses", "work": "fatigue_rules"}
+
+
+def event_caution(kind: str, source: str, chosen: str | None = None) -> Caution | None:
+    """The caution that fits one calendar event: ``chosen`` when the planner named one, else by kind and
+    light source (daylight is not a light box)."""
+    if chosen is not None:
+        return CAUTIONS[chosen]
+    if kind == "bright_light" and "daylight" in source:
+        return CAUTIONS["daylight"]
+    key = EVENT_CAUTION.get(kind)
+    return CAUTIONS[key] if key else None
 
 
 def cautions_for(keys: tuple[str, ...] = TRIP_CAUTIONS) -> list[Caution]:

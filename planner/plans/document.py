@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import hashlib
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import date, datetime, timedelta, timezone, tzinfo
 from typing import Literal, Mapping
 
@@ -62,11 +62,14 @@ class PlanEvent:
         ``"sleep"``, a shift name...
     lux : float or None
         Light at the eye [lux] (0 for sleep); None when it does not apply.
-    transmission : float or None
-        Fraction of light the dark glasses pass [0..1] (light avoidance only).
     key : str
         Stable within the plan, e.g. ``"2027-03-08/bright_light/1"`` (local date, kind, ordinal): the
         same event of an edited plan keeps its key, which keeps its calendar UID.
+    transmission : float or None
+        Fraction of light the dark glasses pass [0..1] (light avoidance only).
+    caution : str or None
+        Key of the caution (:data:`planner.plans.cautions.CAUTIONS`) this event carries in calendars;
+        None for the default of its kind and light source (:func:`planner.plans.cautions.event_caution`).
     """
 
     kind: EventKind
@@ -82,6 +85,7 @@ class PlanEvent:
     lux: float | None
     key: str
     transmission: float | None = None
+    caution: str | None = None
 
     def __post_init__(self):
         if self.start.tzinfo is None or self.end.tzinfo is None:
@@ -239,6 +243,9 @@ class PlanDocument:
     context : tuple of Period
         Fixed periods the plan works around (flights), drawn in the chart but never written to
         calendars (the person has them already).
+    group_days : mapping of str to tuple of DayRow, optional
+        For a roster with crews: each crew's own day rows (its shifts, its predicted CBTmin), so that a
+        report shows one section per crew and never mixes one crew's rows with another's events.
     """
 
     plan_id: str
@@ -255,6 +262,7 @@ class PlanDocument:
     sections: tuple[Section, ...] = ()
     message: str = ""
     context: tuple["Period", ...] = ()
+    group_days: Mapping[str, tuple[DayRow, ...]] = field(default_factory=dict)
 
     def __post_init__(self):
         if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9.-]*", self.plan_id):
@@ -262,6 +270,17 @@ class PlanDocument:
         keys = [e.key for e in self.events]
         if len(set(keys)) != len(keys):
             raise InputError("two events share a key; keys must be unique within a plan", field="events")
+        if set(self.group_days) - set(self.groups):
+            raise InputError("day rows for a group without events", field="group_days")
+
+    def for_group(self, group: str) -> "PlanDocument":
+        """The document of one group (crew): its events and, when known, its own day rows."""
+        if group not in self.groups:
+            raise InputError(f"no group {group!r}; choose one of: {', '.join(self.groups)}", field="group")
+        events = tuple(self.groups[group])
+        return replace(self, title=f"{self.title} — {group}", events=events,
+                       days=tuple(self.group_days.get(group, self.days)), groups={group: events},
+                       group_days={group: self.group_days[group]} if group in self.group_days else {})
 
     def first_date(self) -> date:
         """Earliest local date of the plan (of its days and events)."""

@@ -16,14 +16,37 @@ from planner.engine.parameters import ModelSpec
 from planner.tomlfile import Problem
 from planner.world.light import Window
 
-#: Version of the JSON documents' layout; bumped when a key changes meaning or name.
-SCHEMA_VERSION = 1
+#: Version of the JSON documents' layout; bumped when a key changes meaning or name (2: one vocabulary for
+#: trips and rosters, README "JSON schema version 2").
+SCHEMA_VERSION = 2
+
+#: The one sign convention of phase shifts in every document, as in a phase response curve.
+PHASE_SHIFT_SIGN = ("phase shifts are + for an advance (the body clock moves earlier) and - for a delay "
+                    "(later), as in a phase response curve")
 
 
 def number(value: Any) -> float | None:
     """A float for JSON; None for NaN or infinity."""
     value = float(value)
     return value if math.isfinite(value) else None
+
+
+def phase_shift_h(later_h: Any) -> float | None:
+    """A movement of CBTmin given as + later [h] in the documents' sign (+ advance), to 0.01 h; None if not finite."""
+    value = number(later_h)
+    return None if value is None else hours(-value)
+
+
+def hours(value: Any) -> float | None:
+    """Hours [h] to 0.01 h (36 s: finer than any model's accuracy); None if not finite."""
+    value = number(value)
+    return None if value is None else round(value, 2) + 0.0
+
+
+def whole_minutes(value: Any) -> int | None:
+    """Minutes [min] rounded to whole minutes (plans are set in whole minutes); None if not finite."""
+    value = number(value)
+    return None if value is None else int(round(value))
 
 
 def clock(hours: Any) -> str:
@@ -73,7 +96,7 @@ def problem_entry(problem: Problem) -> dict[str, Any]:
 def window_entry(window: Window, iso: Callable[[datetime], str]) -> dict[str, Any]:
     """A light window for JSON, its times written by ``iso`` (on the local clock of the plan's person)."""
     entry = {"start": iso(window.start), "end": iso(window.end),
-             "minutes": number(window.minutes), "source": window.source}
+             "minutes": whole_minutes(window.minutes), "source": window.source}
     if window.source == "dark glasses":
         entry["transmission"] = window.lux
     else:

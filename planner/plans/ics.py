@@ -19,11 +19,17 @@ One VEVENT per sleep, bright-light, light-avoidance (and, for rosters, work) eve
   DTSTAMP and LAST-MODIFIED, a changed one gets SEQUENCE + 1 and new stamps.
 - ``X-PHASEPLAN-PLAN`` names the plan on every event, so that :mod:`planner.plans.caldav` can tell the
   events of this plan from anything else in a calendar collection.
-- A DISPLAY alarm (RFC 5545 §3.6.6) ``alarm_minutes`` before the start, or none.
-- The calendar's DESCRIPTION (RFC 7986 §5.2) and ``X-WR-CALDESC`` carry the full cautions and the
-  citations; each event's description ends with its one-line caution and a pointer to them.
+- A DISPLAY alarm (RFC 5545 §3.6.6) ``alarm_minutes`` before the start of the events the person acts
+  on (``alarm_kinds``: by default bright light, dark glasses and going to bed), none on shifts.
+- An all-day "About this plan" event on the plan's first date carries the summary, every caution in
+  full with its sources and the citations, so they travel with the events to a CalDAV server (which
+  keeps events, not the calendar's own description). The calendar's DESCRIPTION (RFC 7986 §5.2) and
+  ``X-WR-CALDESC`` carry the same text for readers that show it; each event's description ends with
+  the one-line caution that fits it (:func:`planner.plans.cautions.event_caution`) and a pointer to
+  the About event.
 
-Times are written to the second (DATE-TIME has no fractions); fractions are dropped.
+Times are written in whole minutes (rounded to the nearest): a plan is followed to the minute, and
+seconds in a calendar only look like false precision.
 """
 
 from __future__ import annotations
@@ -36,7 +42,7 @@ import icalendar
 
 from planner._version import __version__
 from planner.errors import InputError
-from planner.plans.cautions import CAUTIONS, EVENT_CAUTION
+from planner.plans.cautions import event_caution
 from planner.plans.document import KIND_LABELS, PlanDocument, PlanEvent
 
 UTC = timezone.utc
@@ -46,8 +52,13 @@ UID_DOMAIN = "phaseplan.invalid"
 #: Non-standard properties (RFC 5545 §3.8.8.2) that mark this planner's events.
 PLAN_PROPERTY = "X-PHASEPLAN-PLAN"
 DIGEST_PROPERTY = "X-PHASEPLAN-DIGEST"
-#: Default reminder before each event [min] (the issue's default).
+#: Default reminder before each event that has one [min] (a design choice of this planner).
 DEFAULT_ALARM_MINUTES = 15
+#: Event kinds that get a reminder by default: the actions the person takes (light, glasses, going to
+#: bed); shifts are in the person's own calendar already.
+DEFAULT_ALARM_KINDS: tuple[str, ...] = ("bright_light", "light_avoidance", "sleep")
+#: Title of the all-day event that carries the full cautions.
+ABOUT_SUMMARY = "About this plan: cautions and sources"
 PRODID = f"-//phaseplan//phaseplan {__version__}//EN"
 
 
@@ -62,20 +73,28 @@ def _zone_key(event: PlanEvent) -> str | None:
     return key if isinstance(key, str) and key else None
 
 
+def whole_minute(moment: datetime) -> datetime:
+    """``moment`` rounded to the nearest whole minute (half a minute rounds up)."""
+    return (moment + timedelta(seconds=30)).replace(second=0, microsecond=0)
+
+
 def _on_clock(moment: datetime, event: PlanEvent) -> datetime:
-    """An instant on the event's clock (its IANA zone) or in UTC, to the second."""
-    moment = moment.replace(microsecond=0)
-    return moment.astimezone(event.zone) if _zone_key(event) else moment.astimezone(UTC)
+    """An instant on the event's clock (its IANA zone) or in UTC, in whole minutes."""
+    moment = whole_minute(moment.astimezone(UTC))
+    return moment.astimezone(event.zone) if _zone_key(event) else moment
 
 
 def caution_pointer(document: PlanDocument) -> str:
-    return (f"Full cautions and sources: the calendar's description and the plan report ({document.title}).")
+    first = document.first_date()
+    return (f"Full cautions and sources: the all-day event \"{ABOUT_SUMMARY}\" on {first:%a %d %b %Y} and the "
+            f"plan report ({document.title}).")
 
 
 def event_description(document: PlanDocument, event: PlanEvent) -> str:
-    """What to do, the light level and source, why, and a one-line caution with a pointer to the full ones."""
+    """What to do, the light level and source, why, and the one-line caution that fits the event, with a
+    pointer to the full ones."""
     lines = [f"What to do: {event.action}", f"Light: {event.light_text()}.", f"Why: {event.purpose}"]
-    caution = CAUTIONS.get(EVENT_CAUTION.get(event.kind, ""))
+    caution = event_caution(event.kind, event.source, event.caution)
     if caution is not None:
         lines.append(f"Caution: {caution.short}")
     lines.append(caution_pointer(document))
@@ -88,7 +107,7 @@ def calendar_description(document: PlanDocument) -> str:
     lines += [f"{label}: {value}" for label, value in document.summary]
     lines += ["", "CAUTIONS"]
     for caution in document.cautions:
-        lines.append(f"- {caution.title}. {caution.text} ({'; '.join(caution.sources)})")
+        lines.append(f"- {caution.title}. {caution.text} {caution.source_note}".rstrip())
     if document.citations:
         lines += ["", "CITATIONS"]
         lines += [f"- {citation}" for citation in document.citations]
@@ -123,7 +142,8 @@ def previous_events(data: bytes | None) -> dict[str, tuple[int, str, datetime | 
 
 
 def build_calendar(document: PlanDocument, events: Iterable[PlanEvent] | None = None, *, name: str | None = None,
-                   alarm_minutes: float | None = DEFAULT_ALARM_MINUTES, previous: bytes | None = None,
+                   alarm_minutes: float | None = DEFAULT_ALARM_MINUTES,
+                   alarm_kinds: Iterable[str] = DEFAULT_ALARM_KINDS, previous: bytes | None = None,
                    now: datetime | None = None) -> icalendar.Calendar:
     """The plan (or some of its events) as an :class:`icalendar.Calendar`.
 
@@ -135,7 +155,9 @@ def build_calendar(document: PlanDocument, events: Iterable[PlanEvent] | None = 
     name : str, optional
         Calendar name (``X-WR-CALNAME``); default the document's title.
     alarm_minutes : float or None
-        A display alarm this many minutes [min] before each event; None for no alarms.
+        A display alarm this many minutes [min] before each event of ``alarm_kinds``; None for no alarms.
+    alarm_kinds : iterable of str
+        Event kinds that get the alarm (default :data:`DEFAULT_ALARM_KINDS`: light, glasses, going to bed).
     previous : bytes, optional
         An earlier export of the same plan: unchanged events keep their SEQUENCE and DTSTAMP,
         changed ones get SEQUENCE + 1 (see the module docstring).
@@ -148,6 +170,7 @@ def build_calendar(document: PlanDocument, events: Iterable[PlanEvent] | None = 
     """
     if alarm_minutes is not None and not 0 <= alarm_minutes <= 24 * 60:
         raise InputError(f"alarm minutes must be between 0 and 1440, got {alarm_minutes:g}", field="alarm_minutes")
+    kinds = check_alarm_kinds(alarm_kinds)
     chosen = list(document.events if events is None else events)
     stamp_now = (now or datetime.now(UTC)).astimezone(UTC).replace(microsecond=0)
     earlier = previous_events(previous)
@@ -159,8 +182,10 @@ def build_calendar(document: PlanDocument, events: Iterable[PlanEvent] | None = 
     description = calendar_description(document)
     calendar.add("DESCRIPTION", description)
     calendar.add("X-WR-CALDESC", icalendar.vText(description))
+    calendar.add_component(_about_event(document, name or document.title, description, earlier, stamp_now))
     for event in sorted(chosen, key=lambda e: (e.start, e.key)):
-        calendar.add_component(_vevent(document, event, alarm_minutes, earlier, stamp_now))
+        alarm = alarm_minutes if event.kind in kinds else None
+        calendar.add_component(_vevent(document, event, alarm, earlier, stamp_now))
     if chosen:
         first = min(e.start for e in chosen).date() - timedelta(days=1)
         last = max(e.end for e in chosen).date() + timedelta(days=2)
@@ -184,6 +209,43 @@ def _one_rdate_per_line(calendar: icalendar.Calendar) -> None:
                 observance.add("RDATE", onset)
 
 
+def check_alarm_kinds(kinds: Iterable[str]) -> frozenset[str]:
+    """The event kinds that get reminders, checked against the known kinds (InputError otherwise)."""
+    chosen = frozenset(kinds)
+    unknown = sorted(chosen - set(KIND_LABELS))
+    if unknown:
+        raise InputError(f"no event kind {', '.join(unknown)} for alarms; allowed: {', '.join(KIND_LABELS)}",
+                         field="alarm_kinds")
+    return chosen
+
+
+def _stamps(uid: str, digest: str, earlier: dict, stamp_now: datetime) -> tuple[int, datetime]:
+    """SEQUENCE and DTSTAMP of an event: kept when its content is unchanged, else SEQUENCE + 1."""
+    if uid not in earlier:
+        return 0, stamp_now
+    old_sequence, old_digest, old_stamp = earlier[uid]
+    if old_digest == digest:
+        return old_sequence, old_stamp or stamp_now
+    return old_sequence + 1, stamp_now
+
+
+def _about_event(document: PlanDocument, name: str, description: str, earlier: dict,
+                 stamp_now: datetime) -> icalendar.Event:
+    """The all-day event on the plan's first date that carries the full cautions (see the module docstring)."""
+    uid = event_uid(document.plan_id, f"about/{name}")
+    first = document.first_date()
+    categories = ["phaseplan", "About this plan"]
+    digest = _digest([first.isoformat(), ABOUT_SUMMARY, description, ",".join(categories)])
+    sequence, stamp = _stamps(uid, digest, earlier, stamp_now)
+    vevent = icalendar.Event()
+    for key, value in (("UID", uid), ("DTSTAMP", stamp), ("LAST-MODIFIED", stamp), ("SEQUENCE", sequence),
+                       ("DTSTART", first), ("DTEND", first + timedelta(days=1)), ("SUMMARY", ABOUT_SUMMARY),
+                       ("DESCRIPTION", description), ("CATEGORIES", categories), ("TRANSP", "TRANSPARENT"),
+                       (PLAN_PROPERTY, document.plan_id), (DIGEST_PROPERTY, digest)):
+        vevent.add(key, value)
+    return vevent
+
+
 def _vevent(document: PlanDocument, event: PlanEvent, alarm_minutes: float | None,
             earlier: dict, stamp_now: datetime) -> icalendar.Event:
     uid = event_uid(document.plan_id, event.key)
@@ -194,13 +256,7 @@ def _vevent(document: PlanDocument, event: PlanEvent, alarm_minutes: float | Non
     seen = [start.isoformat(), str(_zone_key(event)), end.isoformat(), summary, description, event.place,
             ",".join(categories), "" if alarm_minutes is None else f"{alarm_minutes:g}"]
     digest = _digest(seen)
-    sequence, stamp = 0, stamp_now
-    if uid in earlier:
-        old_sequence, old_digest, old_stamp = earlier[uid]
-        if old_digest == digest:
-            sequence, stamp = old_sequence, old_stamp or stamp_now
-        else:
-            sequence = old_sequence + 1
+    sequence, stamp = _stamps(uid, digest, earlier, stamp_now)
     vevent = icalendar.Event()
     vevent.add("UID", uid)
     vevent.add("DTSTAMP", stamp)
@@ -218,10 +274,18 @@ def _vevent(document: PlanDocument, event: PlanEvent, alarm_minutes: float | Non
     if alarm_minutes is not None:
         alarm = icalendar.Alarm()
         alarm.add("ACTION", "DISPLAY")
-        alarm.add("DESCRIPTION", f"{summary} in {alarm_minutes:g} min")
+        alarm.add("DESCRIPTION", alarm_text(event, start))
         alarm.add("TRIGGER", timedelta(minutes=-alarm_minutes))
         vevent.add_component(alarm)
     return vevent
+
+
+def alarm_text(event: PlanEvent, start: datetime) -> str:
+    """What the reminder says: the action and its clock time (going to bed for a sleep)."""
+    at = start.strftime("%H:%M")
+    if event.kind == "sleep":
+        return f"Time for bed: lights out at {at}"
+    return f"{event.summary} at {at}"
 
 
 def calendar_bytes(document: PlanDocument, events: Iterable[PlanEvent] | None = None, **options) -> bytes:

@@ -202,36 +202,60 @@ def chart_format(path: str | os.PathLike) -> str:
 
 # --------------------------------------------------------------------------- page
 
+#: Page sizes the print rules can ask for: (CSS size keyword, width [mm], height [mm]).
+PAPERS = {"A4": ("A4", 210.0, 297.0), "letter": ("letter", 215.9, 279.4)}
+#: Page margins [mm]: the content box (186 mm × 251 mm) fits inside both A4 and Letter.
+MARGIN_TOP_MM, MARGIN_SIDE_MM = 14.0, 12.0
+#: Tallest printed chart [mm]: a chart and its heading fit on one page under it.
+CHART_MAX_HEIGHT_MM = 205.0
+#: Days of actions listed on the first page.
+FIRST_DAYS = 3
+
+
+def check_paper(paper: str) -> str:
+    """The paper name, checked (InputError listing the allowed names)."""
+    if paper not in PAPERS:
+        raise InputError(f"paper {paper!r} is not supported; allowed: {', '.join(PAPERS)}", field="paper")
+    return paper
+
+
 CSS = """
-@page { margin: 14mm 12mm; }  /* no fixed size: A4 and Letter both fit 186 mm of content */
+@page { size: %(size)s portrait; margin: %(top)smm %(side)smm; }
 * { box-sizing: border-box; }
 body { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; font-size: 10pt; color: #1b1b1b;
        margin: 0 auto; padding: 12px 16px; max-width: 190mm; line-height: 1.35; background: #ffffff; }
 h1 { font-size: 16pt; margin: 0 0 2px 0; }
-h2 { font-size: 12pt; margin: 18px 0 6px 0; border-bottom: 2px solid #27344f; padding-bottom: 2px; }
-.generated { color: #555; font-size: 8.5pt; margin: 0 0 10px 0; }
+h2 { font-size: 12pt; margin: 14px 0 6px 0; border-bottom: 2px solid #27344f; padding-bottom: 2px; }
+h3 { font-size: 10.5pt; margin: 8px 0 4px 0; }
+.generated { color: #555; font-size: 8.5pt; margin: 0 0 8px 0; }
 dl.summary { display: grid; grid-template-columns: max-content 1fr; gap: 2px 12px; margin: 0; }
 dl.summary dt { font-weight: bold; }
-dl.summary dd { margin: 0; }
-.message { border-left: 4px solid #27344f; padding: 4px 8px; background: #f1f3f7; }
+dl.summary dd { margin: 0; overflow-wrap: anywhere; }
+.message { border-left: 4px solid #27344f; padding: 4px 8px; background: #f1f3f7; font-weight: bold; }
+ul.first-days { margin: 4px 0; padding-left: 18px; }
+ul.first-days li { margin-bottom: 2px; }
 figure { margin: 6px 0; }
-figure img { width: 100%; height: auto; display: block; }
-figcaption { font-size: 8.5pt; color: #444; }
-table { border-collapse: collapse; width: 100%; font-size: 8.5pt; }
-th, td { border: 1px solid #b9b9b9; padding: 2px 4px; vertical-align: top; text-align: left; }
+figure img { width: 100%%; height: auto; display: block; }
+figcaption, caption { font-size: 8.5pt; color: #444; text-align: left; }
+table { border-collapse: collapse; width: 100%%; font-size: 8pt; table-layout: fixed; }
+th, td { border: 1px solid #b9b9b9; padding: 2px 3px; vertical-align: top; text-align: left;
+         overflow-wrap: anywhere; }
 th { background: #e9ecf2; }
 tr.recommended td { font-weight: bold; background: #fbf3cf; }
-td.num { text-align: right; white-space: nowrap; }
-td.nowrap, span.clock { white-space: nowrap; }
+td.num { text-align: right; }
+span.clock { white-space: nowrap; }
 .side-by-side { display: grid; grid-template-columns: repeat(auto-fit, minmax(55mm, 1fr)); gap: 8px; }
 .side-by-side section h3 { font-size: 10pt; margin: 4px 0; }
 ul.cautions li { margin-bottom: 4px; }
 .source { color: #555; font-size: 8.5pt; }
 footer { margin-top: 16px; font-size: 8pt; color: #555; }
 @media print {
-  body { padding: 0; max-width: none; }
-  h2 { break-after: avoid; }
-  figure, tr, .side-by-side section { break-inside: avoid; }
+  body { padding: 0; max-width: none; font-size: 9.5pt; }
+  h2, h3 { break-after: avoid; page-break-after: avoid; }
+  .keep { break-inside: avoid; page-break-inside: avoid; }
+  figure img { width: auto; max-width: 100%%; max-height: %(chart)smm; margin: 0 auto; }
+  figure, tr, .side-by-side section { break-inside: avoid; page-break-inside: avoid; }
+  section.crew { break-before: page; page-break-before: always; }
   thead { display: table-header-group; }
 }
 """
@@ -279,21 +303,36 @@ def _band_text(row: DayRow) -> str:
 
 
 def _day_table(document: PlanDocument) -> str:
+    """The day-by-day table; a clock, place or target place shared by every row is said once in the header."""
     kinds = [k for k in ("work", "sleep", "bright_light", "light_avoidance")
              if any(e.kind == k for e in document.events) or k != "work"]
     banded = any(row.band is not None for row in document.days)
-    head = ["date", "clock", "day"] + [KIND_LABELS[k].lower() for k in kinds] + ["CBTmin", "target", "vs target"]
+    one_clock = len({row.zone_text for row in document.days}) == 1
+    one_place = len({row.place for row in document.days}) == 1
+    one_target = len({row.target_place for row in document.days}) == 1
+    head = ["date"] + ([] if one_clock else ["clock"]) + ["day"] + [KIND_LABELS[k].lower() for k in kinds]
+    head += ["CBTmin", "target CBTmin" + (f" (aim: {document.days[0].target_place})" if one_target and document.days
+                                          else " (on this row's clock)"), "CBTmin vs target"]
     if banded:
         head.append("CBTmin spread (10th–90th)")
-    lines = ["<table class='days'><thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in head) + "</tr></thead><tbody>"]
+    caption = ""
+    if document.days and (one_clock or one_place):
+        where = [document.days[0].place] if one_place else []
+        where += [f"clock {document.days[0].zone_text}"] if one_clock else []
+        caption = f"<caption>{_e(', '.join(where))}</caption>"
+    lines = [f"<table class='days'>{caption}<thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in head)
+             + "</tr></thead><tbody>"]
     for row in document.days:
-        cells = [f"<td>{_e(f'{row.date:%a %d %b}')}</td>", f"<td>{_e(row.zone_text)}</td>",
-                 f"<td>{_e(row.label)}<br><span class='source'>{_e(row.place)}</span></td>"]
+        cells = [f"<td>{_e(f'{row.date:%a %d %b}')}</td>"]
+        cells += [] if one_clock else [f"<td>{_e(row.zone_text)}</td>"]
+        cells += [f"<td>{_e(row.label)}" + ("" if one_place else f"<br><span class='source'>{_e(row.place)}</span>")
+                  + "</td>"]
         cells += [f"<td>{_event_cell(_events_of(document, row, k), row.zone)}</td>" for k in kinds]
         cbtmin = clock_text(row.cbtmin, row.marker_zone, row.zone) if row.cbtmin is not None else "—"
         target = clock_text(row.target, row.marker_zone, row.zone) if row.target is not None else "—"
         cells += [f"<td class='nowrap'>{_e(cbtmin)}</td>",
-                  f"<td class='nowrap'>{_e(target)}<br><span class='source'>{_e(row.target_place)}</span></td>",
+                  f"<td class='nowrap'>{_e(target)}"
+                  + ("" if one_target else f"<br><span class='source'>aim: {_e(row.target_place)}</span>") + "</td>",
                   f"<td class='nowrap'>{_e(_error_text(row.error_h))}</td>"]
         if banded:
             cells.append(f"<td class='nowrap'>{_e(_band_text(row))}</td>")
@@ -332,46 +371,96 @@ def _sections(document: PlanDocument) -> str:
     return "\n".join(parts)
 
 
-def report_html(document: PlanDocument, *, generated: datetime | None = None) -> str:
+def _first_days(document: PlanDocument) -> str:
+    """The actions of the plan's first days (or each group's), in words, for the first page."""
+    lines = []
+    for group, part in _parts(document):
+        dates = sorted({e.day for e in part.events})[:FIRST_DAYS]
+        prefix = f"{group}: " if group is not None else ""
+        for day in dates:
+            todo = [f"{KIND_LABELS[e.kind].lower()} {e.clock_text()}"
+                    + (f" ({e.source})" if e.kind in ("bright_light", "work") else "")
+                    for e in part.events if e.day == day]
+            lines.append(f"<li><strong>{_e(prefix)}{_e(f'{day:%a %d %b}')}</strong>: {_e('; '.join(todo))}</li>")
+    return "<ul class='first-days'>" + "".join(lines) + "</ul>" if lines else ""
+
+
+def _parts(document: PlanDocument) -> list[tuple[str | None, PlanDocument]]:
+    """(group, document) per section of the report: one per crew when the crews have their own rows."""
+    if document.group_days:
+        return [(name, document.for_group(name)) for name in document.groups]
+    return [(None, document)]
+
+
+def _plan_section(part: PlanDocument, group: str | None, crews: int, index: int = 0) -> str:
+    chart = base64.b64encode(chart_bytes(part, "png")).decode("ascii")
+    whose = f"crew {group}" if group is not None else "the person"
+    heading = f"Crew {group}: body clock and plan, day by day" if group is not None else "Body clock and plan, day by day"
+    klass = "crew" if group is not None and crews > 1 else "plan"
+    return (f"<section class='{klass}'><div class='keep'><h2>{_e(heading)}</h2><figure>"
+            f"<img class='phase-chart' id='phase-chart{'' if index == 0 else f'-{index + 1}'}' alt='Chart: predicted CBTmin of {_e(whose)} per day against the target, with "
+            f"sleep, bright-light and light-avoidance windows on the local clock' "
+            f"src='data:image/png;base64,{chart}'>"
+            "<figcaption>One row per local date; bars are the plan's windows on the local clock of where the person "
+            "is (on a travel day both clocks appear). Diamond: predicted CBTmin (core body temperature minimum); "
+            "circle: where it should be (target).</figcaption></figure></div>"
+            f"<h3>{_e('Crew ' + group + ': ' if group is not None else '')}day-by-day plan</h3>"
+            f"{_day_table(part)}</section>")
+
+
+def report_html(document: PlanDocument, *, generated: datetime | None = None, group: str | None = None,
+                paper: str = "A4") -> str:
     """The plan as one self-contained HTML page (see the module docstring).
+
+    The first page holds the recommendation and the first days' actions; then one chart and day
+    table for the person or, for a roster with crews, one section per crew (only ``group``'s when
+    given), each crew's rows and events its own; then the comparison, cautions and citations.
 
     Parameters
     ----------
     document : PlanDocument
     generated : datetime, optional
         When the report was made (shown in its header); default now.
+    group : str, optional
+        The one crew (worker group) to show.
+    paper : {"A4", "letter"}
+        The page size of the print rules (the content fits both).
 
     Returns
     -------
     str
     """
     generated = (generated or datetime.now(UTC)).astimezone(UTC)
-    chart = base64.b64encode(chart_bytes(document, "svg")).decode("ascii")
+    size = PAPERS[check_paper(paper)][0]
+    if group is not None:
+        document = document.for_group(group)
     noun = "rotation" if document.kind == "roster" else "trip"
     summary = "".join(f"<dt>{_e(label)}</dt><dd>{_e(value)}</dd>" for label, value in document.summary)
     cautions = "".join(f"<li><strong>{_e(c.title)}.</strong> {_e(c.text)} "
-                       f"<span class='source'>({_e('; '.join(c.sources))})</span></li>" for c in document.cautions)
+                       f"<span class='source'>{_e(c.source_note)}</span></li>" for c in document.cautions)
     citations = "".join(f"<li>{_e(c)}</li>" for c in document.citations)
     sections = _sections(document)
     comparison = _comparison_table(document)
-    parts = [
+    parts = _parts(document)
+    css = CSS % {"size": size, "top": f"{MARGIN_TOP_MM:g}", "side": f"{MARGIN_SIDE_MM:g}",
+                 "chart": f"{CHART_MAX_HEIGHT_MM:g}"}
+    first_days = _first_days(document)
+    page = [
         "<!DOCTYPE html>",
         "<html lang='en'><head><meta charset='utf-8'>",
         "<meta name='viewport' content='width=device-width, initial-scale=1'>",
         f"<title>{_e(document.title)} — light and sleep plan</title>",
-        f"<style>{CSS}</style></head><body>",
+        f"<style>{css}</style></head><body>",
         f"<header><h1>{_e(document.title)}</h1>",
         f"<p class='generated'>Light and sleep plan for this {noun}, made by phaseplan {_e(__version__)} on "
         f"{generated:%Y-%m-%d %H:%M} UTC. A model prediction, not medical advice: read the cautions.</p></header>",
-        f"<section><h2>Summary</h2><dl class='summary'>{summary}</dl>",
-        f"<p class='message'>{_e(document.message)}</p></section>" if document.message else "</section>",
-        "<section><h2>Body clock and plan, day by day</h2><figure>",
-        f"<img id='phase-chart' alt='Chart: predicted CBTmin per day against the target, with sleep, bright-light "
-        f"and light-avoidance windows on the local clock' src='data:image/svg+xml;base64,{chart}'>",
-        "<figcaption>One row per local date; bars are the plan's windows on the local clock of where the person "
-        "is (on a travel day both clocks appear). Diamond: predicted CBTmin (core body temperature minimum); "
-        "circle: where it should be (target).</figcaption></figure></section>",
-        f"<section><h2>Day-by-day plan</h2>{_day_table(document)}</section>",
+        f"<section id='recommendation'><h2>Recommendation</h2>"
+        + (f"<p class='message'>{_e(document.message)}</p>" if document.message else "")
+        + f"<dl class='summary'>{summary}</dl></section>",
+        f"<section id='first-days'><h2>What to do first</h2>{first_days}</section>" if first_days else "",
+    ]
+    page += [_plan_section(part, name, len(parts), k) for k, (name, part) in enumerate(parts)]
+    page += [
         f"<section><h2>Strategy comparison</h2>{comparison}</section>" if comparison else "",
         f"<section><h2>Drafts side by side</h2>{sections}</section>" if sections else "",
         f"<section><h2>Cautions</h2><ul class='cautions'>{cautions}</ul></section>",
@@ -380,4 +469,4 @@ def report_html(document: PlanDocument, *, generated: datetime | None = None) ->
         "time zones.</footer>",
         "</body></html>",
     ]
-    return "\n".join(p for p in parts if p) + "\n"
+    return "\n".join(p for p in page if p) + "\n"

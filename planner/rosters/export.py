@@ -14,7 +14,7 @@ import numpy as np
 from planner.engine.parameters import ModelSpec
 from planner.engine.population import DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
-from planner.plans.entries import citation_entry, clock, model_entry, number, window_entry
+from planner.plans.entries import citation_entry, clock, model_entry, number, hours, whole_minutes, window_entry
 from planner.rosters.model import Roster
 from planner.rosters.scenario import OFF, RosterInfo
 from planner.rosters.search import (
@@ -78,7 +78,7 @@ def metrics_entry(roster: Roster, result: DraftResult, outcome: StrategyOutcome)
         "worst_day": {"date": days[worst].date.isoformat(), "shift": days[worst].label,
                       "burden_h": number(m.day_burden_h[0, worst])},
         "min_amplitude_ratio": number(m.min_amplitude_ratio[0]),
-        "light_box_minutes": number(outcome.plan.box_minutes),
+        "light_box_minutes": whole_minutes(outcome.plan.box_minutes),
         "candidates_searched": outcome.candidates,
         "settings": {name: value for name, value in outcome.plan.settings},
         "settings_text": describe_settings(outcome.plan),
@@ -90,7 +90,7 @@ def population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | No
     if pop is None:
         return None
     return {
-        "workers": pop.size,
+        "people": pop.size,
         "seed": pop.seed,
         "intrinsic_period": {"distribution": "normal", "mean_h": DUFFY2011_TAU_MEAN_H, "sd_h": DUFFY2011_TAU_SD_H,
                              "source": "Duffy et al. 2011, PNAS 108:15602", "drawn_h": pop.tau_h},
@@ -108,7 +108,7 @@ def robust_entry(chosen: DraftResult) -> dict[str, Any] | None:
     robust = chosen.robust
     if robust is None:
         return None
-    return {"draft": chosen.draft.name, "workers": robust.people, "candidates": robust.candidates,
+    return {"draft": chosen.draft.name, "people": robust.people, "candidates": robust.candidates,
             "changed": robust.changed, "strategy": robust.outcome.strategy,
             "settings_text": describe_settings(robust.outcome.plan),
             "population_mean_score_h_per_week": number(robust.mean_score),
@@ -140,16 +140,24 @@ def day_entry(roster: Roster, view: RosterDayView) -> dict[str, Any]:
         "shift": day.label,
         "kind": day.kind,
         "work": None if day.work is None else {"start": site_iso(roster, day.work[0]), "end": site_iso(roster, day.work[1])},
-        "sleep": [{"start": site_iso(roster, a), "end": site_iso(roster, b), "phase_angle_h": number(angle)}
+        "sleep": [{"start": site_iso(roster, a), "end": site_iso(roster, b), "phase_angle_h": hours(angle)}
                   for (a, b), angle in zip(view.sleep, view.sleep_phase_angle_h)],
         "bright_light": [window_entry(w, lambda m: site_iso(roster, m)) for w in view.bright],
         "light_avoidance": [window_entry(w, lambda m: site_iso(roster, m)) for w in view.avoid],
         "cbtmin": site_iso(roster, view.cbtmin),
         "dlmo": site_iso(roster, view.dlmo),
-        "work_in_circadian_low_h": number(view.work_low_h),
-        "burden_h": number(view.burden_h),
+        "work_in_circadian_low_h": hours(view.work_low_h),
+        "burden_h": hours(view.burden_h),
         "adapted": view.adapted,
     }
+
+
+def crews_entry(roster: Roster, crews: dict) -> dict[str, Any] | None:
+    """Each crew's own days (its shifts, sleeps, light and predicted markers), by crew name; None without crews."""
+    if not crews:
+        return None
+    return {name: {"draft": crew.draft.name, "days": [day_entry(roster, view) for view in crew.views]}
+            for name, crew in crews.items()}
 
 
 def draft_views(draft: DraftResult) -> list[RosterDayView]:
@@ -171,7 +179,7 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
         "model": {**model_entry(model), "citation": model.citation},
         "citations": [citation_entry(model)],
         "strategy": strategy,
-        "workers": workers,
+        "people": workers,
         "seed": seed,
         "success": bool(result.success),
         "status": result.status,
@@ -191,8 +199,8 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
             "no_plan": metrics_entry(roster, d, d.baseline),
             "population": population_entry(d, roster),
         } for k, d in enumerate(result.drafts)],
-        "plan": {"draft": chosen.draft.name, "strategy": chosen.best_strategy,
-                 "days": [day_entry(roster, view) for view in views]},
+        "plan": {"draft": chosen.draft.name, "strategy": chosen.best_strategy},
+        "days": [day_entry(roster, view) for view in views],
         "chart": {"legend": chart_legend(), "lines": text_chart(roster, views)},
         "simulated": result.simulated,
         "cautions": [c.as_dict() for c in cautions_for(SHIFT_CAUTIONS)],
@@ -203,7 +211,12 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
             "biological_night": "the window the habitual free-day sleep occupies relative to the entrained CBTmin, "
                                 "carried along with the current CBTmin",
             "adapted": "the day's CBTmin falls inside a sleep episode",
-            "rank_score_h_per_week": "population median score when workers > 0, else the average worker's",
+            "rank_score_h_per_week": "population median score when people > 0, else the average worker's",
+            "status": "0 when every draft has a finite score, 1 when some draft has no CBTmin on some days",
+            "burden_h": "the day's share of the disruption score: hours of work within ±3 h of CBTmin plus hours "
+                        "of biological night spent awake on that day, for the average worker",
+            "people": "size of the simulated population (0: the average worker only)",
+            "days": "the chosen draft's days for the average worker of a crew starting the pattern on its first day",
         },
     }
 

@@ -38,7 +38,8 @@ from planner.world.places import Place, sun_up
 UTC = timezone.utc
 
 #: Night time as the EU working-time rules count it includes 00:00-05:00; a shift with at least
-#: 3 h inside it is a night shift (Directive 2003/88/EC, art. 2(3)-(4); from memory).
+#: 3 h inside it is a night shift (Directive 2003/88/EC, art. 2(3)-(4): night time includes midnight
+#: to 05:00; a night worker works at least 3 h of the daily working time in it).
 NIGHT_PERIOD_H = (0.0, 5.0)
 NIGHT_SHIFT_MIN_HOURS = 3.0
 #: Street-lit outdoor illuminance on a commute after dark [lux] (road lighting is typically

@@ -83,19 +83,23 @@ from planner.rosters.model import (
     sunlit,
 )
 from planner.world.light import LightOptions, Window, hours_between
+from planner.intervals import count_text
 
 Strategy = Literal["nights", "compromise", "day"]
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
-STRATEGY_NAMES = {"nights": "full adaptation to nights", "compromise": "compromise phase position",
-                  "day": "stay day-oriented (anchor sleep)", "none": "no plan"}
+#: Strategy names say what the plan aims at, not what it achieves (the outcome columns say that).
+STRATEGY_NAMES = {"nights": "aims at full adaptation to nights", "compromise": "aims at a compromise phase position",
+                  "day": "aims to stay day-oriented (anchor sleep)", "none": "no plan"}
 #: Where each strategy comes from (shown with the plan's citations).
 STRATEGY_CITATIONS = {
-    "nights": ("Smith MR, Eastman CI (2008). Sleep 31:1639 (bright light early in night shifts, dark glasses "
-               "home and a dark daytime sleep)"),
+    "nights": ("Smith MR et al. (2008). Night shift performance is improved by a compromise circadian phase "
+               "position: study 3. Sleep 31(12):1639-1645. doi:10.1093/sleep/31.12.1639 (bright light early in "
+               "night shifts, dark glasses on the way home and a dark daytime sleep)"),
     "compromise": ("Smith MR, Fogg LF, Eastman CI (2009). A compromise circadian phase position for permanent "
-                   "night work improves mood, fatigue, and performance. Sleep 32:1481 (title from memory)"),
+                   "night work improves mood, fatigue, and performance. Sleep 32(11):1481-1489. "
+                   "doi:10.1093/sleep/32.11.1481"),
     "day": ("Minors DS, Waterhouse JM (1981). Anchor sleep as a synchronizer of rhythms on abnormal routines. "
-            "Int J Chronobiol 7:165-188 (from memory)"),
+            "Int J Chronobiol 7(3):165-188"),
 }
 #: Short names for tables.
 SHORT_NAMES = {"nights": "nights", "compromise": "compromise", "day": "day-oriented", "none": "no plan"}
@@ -110,7 +114,7 @@ WIND_DOWN_H = 0.5
 #: A day's markers are the first from this local clock hour that day to the same hour the next [h]
 #: (see the module docstring for why 18:00; a design choice of this planner).
 DAY_MARKER_FROM_H = 18.0
-#: Length of the anchor sleep [h] (Minors & Waterhouse 1981, Int J Chronobiol 7:165; from memory).
+#: Length of the anchor sleep [h] (Minors & Waterhouse 1981, Int J Chronobiol 7:165: 4-h anchor sleeps).
 ANCHOR_SLEEP_H = 4.0
 #: Length of the nap before the first night of a run [h] (a prophylactic afternoon nap is common
 #: advice before night work; common practice, no single source).
@@ -563,11 +567,12 @@ class RosterEvaluator:
 
     roster: Roster
     model: ModelSpec
-    ref: Reference = field(init=False)
+    ref: Reference | None = None   # the entrained free day; computed when not given
     simulated: int = 0
 
     def __post_init__(self):
-        self.ref = reference(self.roster, self.model)
+        if self.ref is None:
+            self.ref = reference(self.roster, self.model)
 
     def evaluate(self, draft: Draft, plans: Sequence[RosterPlan], *, final: bool = False,
                  model: ModelSpec | None = None, initial_state: np.ndarray | None = None) -> Metrics:
@@ -863,7 +868,7 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
                                             roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
-    message = (f"{len(ranked)} draft(s) planned; least disruptive: {ranked[0].draft.name}" if finite else
+    message = (f"{count_text(len(ranked), 'draft')} planned; least disruptive: {ranked[0].draft.name}" if finite else
                "some drafts have no finite disruption score (no CBTmin predicted on some days)")
     return RosterResult(finite, 0 if finite else 1, message, roster, ranked, reason, evaluator.simulated,
                         [model.citation], evaluator.ref)
@@ -873,7 +878,7 @@ def ranking_reason(ranked: Sequence[DraftResult]) -> str:
     """Plain words for why the first draft ranks first."""
     first = ranked[0]
     what = "median worker" if first.population is not None else "average worker"
-    text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
+    text = (f"{first.draft.name} with the plan that {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
             f"week of work in the circadian low or biological night spent awake for the {what}")
     if len(ranked) > 1:
         others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.best_strategy]})"

@@ -22,6 +22,7 @@ from planner.rosters.search import (
     STRATEGY_CITATIONS,
     STRATEGY_NAMES,
     Metrics,
+    RosterEvaluator,
     Settings,
     describe_settings,
     plan_for,
@@ -151,7 +152,7 @@ def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
     """(summary, action, purpose) of a light window in plain words."""
     minutes = round(window.minutes)
     if window.source == "dark glasses":
-        return ("Avoid light: dark glasses",
+        return ("Dim light: dark glasses",
                 f"Wear the dark glasses for {minutes} min from the end of the shift until you are indoors (they pass "
                 f"{window.lux:.0%} of the light); take them off to drive in dim light.",
                 "Morning light after a night shift falls after the body clock's minimum (CBTmin) and would move "
@@ -183,14 +184,15 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None)
                 kind="work", summary=f"Shift {shift.code} ({shift.label})",
                 action=f"Work the {shift.label} shift ({shift.kind}).",
                 purpose="Your rostered shift; the light and sleep around it follow the plan.",
-                source=shift.label, lux=float(roster.work_lux), transmission=None)))
+                source=shift.label, lux=float(roster.work_lux), transmission=None,
+                caution="night_shift_driving" if shift.kind == "night" else None)))
     for a, b in plan.sleep:
         owner = _owner(days, a, NIGHT_BELONGS_BACK)
         if owner is None:
             continue
         items.append(((a, b), days[owner].date, dict(
             kind="sleep", summary="Sleep", action="Lights out and eyes closed; keep the bedroom dark.",
-            purpose=(f"Sleep at these hours is part of the {STRATEGY_NAMES.get(plan.strategy, plan.strategy)} plan; "
+            purpose=(f"Sleep at these hours is part of the plan that {STRATEGY_NAMES.get(plan.strategy, plan.strategy)}; "
                      "closed eyes also keep light out at the wrong time."),
             source="sleep", lux=0.0, transmission=None)))
     for window in plan.bright + plan.avoid:
@@ -214,6 +216,37 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None)
     return events
 
 
+@dataclass(frozen=True)
+class CrewPlan:
+    """One crew's own plan: the draft as the crew works it, its plan and its days with predicted markers."""
+
+    name: str
+    draft: object
+    plan: RosterPlan
+    views: list[RosterDayView]
+    band_from_draft: bool = False   # the crew works the draft as drawn, so the population spread is its own
+
+
+def crew_plans(roster: Roster, model, result, chosen) -> dict[str, CrewPlan]:
+    """Each crew's plan of the chosen draft, simulated for the average worker (one run per crew), so that
+    reports and charts show every crew its own rows; {} for a roster without crews."""
+    if not roster.crews:
+        return {}
+    plan = chosen.best.plan
+    settings = Settings(**dict(plan.settings))
+    evaluator = RosterEvaluator(roster, model, ref=result.reference)
+    crews = {}
+    for crew in roster.crews:
+        draft = crew_draft(chosen.draft, crew)
+        aligned = crew.offset_days % len(chosen.draft.pattern) == 0
+        crew_plan = plan_for(roster, draft, plan.strategy, settings)
+        metrics = evaluator.evaluate(draft, [crew_plan], final=True)
+        days = roster_days(roster, draft)
+        crews[crew.name] = CrewPlan(crew.name, draft, crew_plan, day_views(days, crew_plan, metrics, days[0].start),
+                                    band_from_draft=aligned)
+    return crews
+
+
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
     """Where CBTmin belongs for the main sleep nearest it (naps left out): that sleep's wake less the
     habitual wake-to-CBTmin gap, i.e. where the habitual sleep holds it."""
@@ -224,7 +257,8 @@ def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
     return wake - timedelta(hours=ref.wake_from_cbtmin_h)
 
 
-def document_from_roster(roster: Roster, info, result, chosen, views: list[RosterDayView]) -> PlanDocument:
+def document_from_roster(roster: Roster, info, result, chosen, views: list[RosterDayView],
+                         crews: dict[str, CrewPlan] | None = None) -> PlanDocument:
     """A roster plan as a :class:`~planner.plans.document.PlanDocument`: the chosen draft's plan for every crew.
 
     Parameters
@@ -237,38 +271,28 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         The draft whose plan becomes the events (the top-ranked one unless another was asked for).
     views : list of RosterDayView
         ``day_views`` of the chosen draft's plan for the average worker.
+    crews : dict of str to CrewPlan, optional
+        :func:`crew_plans`: each crew's own plan and days; they become the document's ``group_days``
+        (one report section and chart per crew) and each crew's calendar.
     """
     plan = chosen.best.plan
     settings = Settings(**dict(plan.settings))
-    crews = roster.crews or (None,)
     groups = {}
-    for crew in crews:
-        draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
-        crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
+    for crew in roster.crews or (None,):
+        if crew is not None and crews and crew.name in crews:
+            draft, crew_plan = crews[crew.name].draft, crews[crew.name].plan
+        else:
+            draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
+            crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy,
+                                                                                   settings)
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
                                                                  crew.name if crew else None))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
-    zone = roster.site.zone
-    rows = []
     bands = chosen.population.cbtmin_clock_h if chosen.population is not None else None
-    # Rows are calendar dates, as the chart draws them: a date shows the CBTmin of the night before it
-    # (the previous day's "night after"), so the first date has none and one date follows the draft.
-    for k in range(len(views) + 1):
-        before = views[k - 1] if k else None
-        cbtmin = before.cbtmin if before is not None else None
-        target = _target(plan, cbtmin, result.reference)
-        error = (cbtmin - target).total_seconds() / 3600.0 if target is not None else math.nan
-        band = None
-        if before is not None and bands is not None and np.all(np.isfinite(bands[before.day.index])):
-            band = tuple(float(v) for v in bands[before.day.index])
-        if k < len(views):
-            day = views[k].day
-            when, label = day.date, day.label if day.work is None else f"{day.label} ({day.shift.kind})"
-        else:
-            when, label = views[-1].day.date + timedelta(days=1), "after the draft"
-        start = roster.at(when, 0.0).astimezone(zone)
-        rows.append(DayRow(when, zone, zone_label(start), label, roster.site.name, cbtmin, target,
-                           "the plan's sleep", error, band))
+    rows = _day_rows(roster, plan, views, result.reference, bands)
+    group_days = {name: tuple(_day_rows(roster, crew.plan, crew.views, result.reference,
+                                        bands if crew.band_from_draft else None))
+                  for name, crew in (crews or {}).items()}
     comparison = []
     for name, outcome in list(chosen.strategies.items()) + [("none", chosen.baseline)]:
         weeks = len(chosen.days) / 7.0
@@ -289,7 +313,9 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                                                      "for the average worker's plan")})
         recommended = len(comparison) - 1
     ranked = Section("Drafts ranked, least disruptive first",
-                     ("#", "draft", "pattern", "strategy", "score h/wk", "no plan"),
+                     ("#", "draft", "pattern", "strategy",
+                      "score h/wk" + (" (population)" if chosen.population else " (average worker)"),
+                      "no plan h/wk (average worker)"),
                      tuple((str(k + 1), d.draft.name, " ".join(c or "off" for c in d.draft.pattern) +
                             f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], score_text(d), f"{d.baseline.score:.1f}")
                            for k, d in enumerate(result.drafts)),
@@ -306,10 +332,10 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                                         ("mean days to adapt", pop.mean_days_to_adapt))),
             note=f"intrinsic periods from Duffy et al. 2011 (24.15 ± 0.20 h), seed {pop.seed}"))
     shifts = ", ".join(f"{s.code} {s.label} {_hm_clock(s.start_h)}–{_hm_clock(s.end_h)}" for s in roster.shifts)
-    summary = [("crew", info.name)]
+    summary = [("rotation", info.name)]
     if info.description:
         summary.append(("about", info.description))
-    summary += [("site", f"{roster.site.name} ({zone})"), ("shifts", shifts),
+    summary += [("site", f"{roster.site.name} ({roster.site.zone})"), ("shifts", shifts),
                 ("draft shown", f"{chosen.draft.name}: " + " ".join(c or "off" for c in chosen.draft.pattern)
                  + f" ×{chosen.draft.cycles}"),
                 ("strategy", f"{STRATEGY_NAMES[plan.strategy]}: {describe_settings(plan)}"
@@ -326,7 +352,32 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         days=tuple(rows), comparison=tuple(comparison), recommended=recommended,
         cautions=tuple(cautions_for(SHIFT_CAUTIONS)), citations=citations, kind="roster",
         groups={name: group for name, group in groups.items() if name is not None},
-        sections=tuple(sections), message=result.message)
+        sections=tuple(sections), message=result.message, group_days=group_days)
+
+
+def _day_rows(roster: Roster, plan: RosterPlan, views: list[RosterDayView], reference, bands) -> list[DayRow]:
+    """Day rows of one worker's plan (``views``), with the population spread ``bands`` when given."""
+    zone = roster.site.zone
+    rows = []
+    # Rows are calendar dates, as the chart draws them: a date shows the CBTmin of the night before it
+    # (the previous day's "night after"), so the first date has none and one date follows the draft.
+    for k in range(len(views) + 1):
+        before = views[k - 1] if k else None
+        cbtmin = before.cbtmin if before is not None else None
+        target = _target(plan, cbtmin, reference)
+        error = (cbtmin - target).total_seconds() / 3600.0 if target is not None else math.nan
+        band = None
+        if before is not None and bands is not None and np.all(np.isfinite(bands[before.day.index])):
+            band = tuple(float(v) for v in bands[before.day.index])
+        if k < len(views):
+            day = views[k].day
+            when, label = day.date, day.label if day.work is None else f"{day.label} ({day.shift.kind})"
+        else:
+            when, label = views[-1].day.date + timedelta(days=1), "after the draft"
+        start = roster.at(when, 0.0).astimezone(zone)
+        rows.append(DayRow(when, zone, zone_label(start), label, roster.site.name, cbtmin, target,
+                           "the plan's sleep", error, band))
+    return rows
 
 
 def score_text(result) -> str:

@@ -66,7 +66,7 @@ def _avoid_event(trip: Trip, view: DayView, window: Window, strategy: str) -> di
     else:
         purpose = (f"Light in these hours, before {_cbtmin_note(trip, view)}, would move the body clock later "
                    "and undo the planned advance; avoiding it keeps the clock moving earlier.")
-    return dict(kind="light_avoidance", summary="Avoid light: dark glasses", action=action, purpose=purpose,
+    return dict(kind="light_avoidance", summary="Dim light: dark glasses", action=action, purpose=purpose,
                 source=window.source, lux=None, transmission=float(window.lux))
 
 
@@ -85,11 +85,26 @@ def trip_plan_id(info: ScenarioInfo) -> str:
     return stable_id("trip", info.name)
 
 
+def _whole_sleeps(trip: Trip, sleeps) -> list[tuple[datetime, datetime]]:
+    """The sleeps as the person sleeps them, not cut by the plan's ends: the night running into the plan's
+    start is the person's own (left out), and the night the plan ends in runs on to the place's wake time
+    (the simulation stops at the end; a calendar should not say "sleep 22:00–00:00")."""
+    whole = []
+    for bed, wake in sleeps:
+        if bed <= trip.start:
+            continue
+        if wake >= trip.end:
+            place = place_at(trip, bed)
+            wake = max(wake, bed + timedelta(hours=(place.wake_h - place.bed_h) % 24.0))
+        whole.append((bed, wake))
+    return whole
+
+
 def _trip_events(trip: Trip, views: list[DayView], strategy: str) -> list[PlanEvent]:
     events = []
     for view in views:
         day = view.day.local_date
-        items = [((a, b), _sleep_event(trip, view, strategy)) for a, b in view.sleep]
+        items = [((a, b), _sleep_event(trip, view, strategy)) for a, b in _whole_sleeps(trip, view.sleep)]
         items += [((w.start, w.end), _bright_event(trip, view, w, strategy)) for w in view.bright]
         items += [((w.start, w.end), _avoid_event(trip, view, w, strategy)) for w in view.avoid]
         ordinals: dict[str, int] = {}

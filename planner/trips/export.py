@@ -12,7 +12,17 @@ from typing import Any
 
 from planner.engine.parameters import ModelSpec
 from planner.plans.cautions import cautions_for
-from planner.plans.entries import citation_entry, clock, model_entry, number, window_entry
+from planner.plans.entries import (
+    PHASE_SHIFT_SIGN,
+    citation_entry,
+    clock,
+    hours,
+    model_entry,
+    number,
+    phase_shift_h,
+    whole_minutes,
+    window_entry,
+)
 from planner.trips.evidence import StartingPhase
 from planner.trips.model import Trip, trip_days
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, distribution_spec
@@ -31,11 +41,11 @@ def outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
     entry = {
         "aim": outcome.aim,
         "reentrainment_days": outcome.reentrainment_days,
-        "box_minutes": number(outcome.box_minutes),
+        "light_box_minutes": whole_minutes(outcome.box_minutes),
         "near_low_amplitude": bool(outcome.near_low_amplitude),
         "min_amplitude_ratio": number(outcome.min_amplitude_ratio),
         "direction": outcome.direction,
-        "net_shift_h": number(outcome.net_shift_h),
+        "net_phase_shift_h": phase_shift_h(outcome.net_shift_h),
         "max_error_while_away_h": number(outcome.max_away_error_h),
         "movement": movement(outcome, alternatives),
     }
@@ -62,7 +72,7 @@ def day_entry(trip: Trip, view: DayView) -> dict[str, Any]:
         "bright_light": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.bright],
         "light_avoidance": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.avoid],
         "cbtmin": local_iso(trip, view.cbtmin) if view.cbtmin is not None else None,
-        "phase_error_h": number(view.error_h),
+        "phase_error_h": hours(view.error_h),
     }
 
 
@@ -94,7 +104,7 @@ def trip_document(command: str, trip: Trip, info: ScenarioInfo, model: ModelSpec
                                   "null when not within the time away (for aim 'home': of home time)",
             "phase_error_h": "CBTmin minus the target place's entrained CBTmin, in (-12, 12]; + means the "
                              "body clock is later than the target (it must advance)",
-            "net_shift_h": "net movement of CBTmin over the time away; + later (delay), - earlier (advance)",
+            "net_phase_shift_h": PHASE_SHIFT_SIGN,
         },
     }
 
@@ -117,8 +127,8 @@ def stats_entry(trip: Trip, stats: PlanStats) -> dict[str, Any]:
         "probability_by_day_k": number(stats.probability),
         "probability_by_stay_end": number(stats.probability_by_stay_end),
         "probability_by_day": [number(p) for p in stats.probability_by_day],
-        "days": {"p10": days_value(stats.days_p10), "median": days_value(stats.days_median),
-                 "p90": days_value(stats.days_p90)},
+        "reentrainment_days": {"p10": days_value(stats.days_p10), "median": days_value(stats.days_median),
+                               "p90": days_value(stats.days_p90)},
         "wrong_direction_fraction": number(stats.wrong_direction),
         "cbtmin": [{"date": d.isoformat(), "p10": number(stats.cbtmin_clock["p10"][k]),
                     "median": number(stats.cbtmin_clock["median"][k]), "p90": number(stats.cbtmin_clock["p90"][k])}
@@ -137,13 +147,13 @@ def population_entry(trip: Trip, people: int, seed: int, evidence, population) -
         return None
     stats, starting = population
     return {
-        "n": people,
+        "people": people,
         "seed": seed,
         "distribution": {**distribution_spec(evidence),
                          "starting_phase": {"source": starting.source, "extra_sd_h": starting.phase_sd_h}},
         "plans": {name: stats_entry(trip, value) for name, value in stats.items()},
         "conventions": {
-            "days": "days after the arrival day until CBTmin stays within 1 h of the person's own target; "
+            "reentrainment_days": "days after the arrival day until CBTmin stays within 1 h of the person's own target; "
                     "null when that share of people does not re-entrain within the time away",
             "probability_by_day": "fraction re-entrained by each day of the time away (index 0 = arrival day)",
             "wrong_direction_fraction": "fraction whose clock moved the other way than the plan intends",
@@ -159,7 +169,7 @@ def robust_entry(trip: Trip, result: RobustResult | None, plan: TripPlanResult) 
     return {
         "strategy": result.strategy,
         "improved": bool(result.improved),
-        "search_people": result.people,
+        "people": result.people,
         "simulated": result.simulated,
         "search": {"robust": stats_entry(trip, result.search), "average_person_plan": stats_entry(trip, result.seed_search)},
         "average_person": outcome_entry(result.outcome, plan.alternatives),
@@ -175,7 +185,7 @@ def ensemble_entry(trip: Trip, ensemble: EnsembleResult | None) -> dict[str, Any
         outcome = member.outcome
         members.append({"model": member.model.id, "citation": member.model.citation,
                         "reentrainment_days": outcome.reentrainment_days if outcome.aim == "route" else None,
-                        "direction": outcome.direction, "net_shift_h": number(outcome.net_shift_h),
+                        "direction": outcome.direction, "net_phase_shift_h": phase_shift_h(outcome.net_shift_h),
                         "starting_dlmo_clock": clock(member.starting.dlmo_clock_h[0]),
                         "cbtmin": [local_iso(trip, d.cbtmin) if d.cbtmin is not None else None for d in outcome.days],
                         "phase_error_h": [number(d.error_h) for d in outcome.days]})

@@ -68,6 +68,7 @@ from planner.trips.search import (
     target_place,
 )
 from planner.world.light import hours_between
+from planner.intervals import count_text
 
 #: People in the population that scores candidates in a robust search (a design choice of this
 #: planner: a 10-point difference in success probability is then about one standard error apart
@@ -553,6 +554,6 @@ def model_ensemble(trip: Trip, plan: Plan, models: Sequence[str | ModelSpec], *,
     wide = [members[0].outcome.days[k].day.local_date.isoformat() for k in range(len(ranges))
             if math.isfinite(ranges[k]) and ranges[k] > DISAGREE_H]
     if wide:
-        notes.append(f"CBTmin predictions more than {DISAGREE_H:g} h apart on {len(wide)} day(s): "
+        notes.append(f"CBTmin predictions more than {DISAGREE_H:g} h apart on {count_text(len(wide), 'day')}: "
                      + ", ".join(wide[:6]) + (" …" if len(wide) > 6 else ""))
     return EnsembleResult(members, ranges, notes)

@@ -61,6 +61,7 @@ from planner.trips.model import (
 )
 from planner.world.light import Window, hours_between
 from planner.world.places import Place
+from planner.intervals import count_text
 
 Strategy = Literal["advance", "delay"]
 #: What a plan aims at: the clock of each day's place on the route, or home time throughout.
@@ -781,7 +782,7 @@ def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str |
     if days is None:
         return f"{stay}, and no plan re-entrains to the destination before the flight home"
     if away <= SHORT_STAY_DAYS:
-        return f"only {stay} (re-entraining there takes {days} day(s), and then the clock has to come back)"
+        return f"only {stay} (re-entraining there takes {count_text(days, 'day')}, and then the clock has to come back)"
     if days > away:
         return f"{stay}, fewer than the {days} days re-entraining would take"
     return None
@@ -829,7 +830,7 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
                    f"CBTmin {residual:.1f} h from the destination's target {when}")
         success = False
     else:
-        message = f"re-entrained {days} day(s) after the arrival day with the {chosen} plan"
+        message = f"re-entrained {count_text(days, 'day')} after the arrival day with the {chosen} plan"
         success = True
     return TripPlanResult(success, message, chosen, best, results, baseline, reason,
                           planner.evaluator.simulated, [model.citation])
