@@ -40,7 +40,6 @@ from planner.cli.common import (
     print_facts,
     print_written,
     progress_bar,
-    signed,
     stderr_console,
     with_written,
 )
