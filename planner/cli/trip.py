@@ -180,7 +180,7 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
     for name, outcome in rows:
         label = f"[bold]{strategy_name(name)}[/bold] ✓" if name == plan.strategy else strategy_name(name)
         comparison.add_row(label, settling(outcome), f"{outcome.box_minutes:.0f} min",
-                           "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives)))
+                           "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives, name)))
     console.print(Panel(comparison, title="Advance, delay or no plan", title_align="left"))
     console.print(f"[bold]Recommended:[/bold] {escape(strategy_name(plan.strategy))} — {escape(plan.reason)}")
     if plan.success:

@@ -150,7 +150,7 @@ def _comparison(plan: TripPlanResult) -> tuple[list[dict], int]:
     table = [{"plan": strategy_name(name), "re-entrains": settling(outcome),
               "light box": f"{outcome.box_minutes:.0f} min",
               "near low amplitude": "yes" if outcome.near_low_amplitude else "no",
-              "body clock": movement(outcome, plan.alternatives)} for name, outcome in rows]
+              "body clock": movement(outcome, plan.alternatives, name)} for name, outcome in rows]
     recommended = [name for name, _ in rows].index(plan.strategy)
     return table, recommended
 

@@ -17,7 +17,7 @@ from planner.trips.evidence import StartingPhase
 from planner.trips.model import Trip, trip_days
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, distribution_spec
 from planner.trips.scenario import ScenarioInfo
-from planner.trips.search import TripPlanResult
+from planner.trips.search import TripPlanResult, moved_as_named
 from planner.trips.views import DayView, clock_change_h, day_views, local, movement
 from planner.world.places import zone_name
 
@@ -37,11 +37,12 @@ def outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
         "direction": outcome.direction,
         "net_shift_h": number(outcome.net_shift_h),
         "max_error_while_away_h": number(outcome.max_away_error_h),
-        "movement": movement(outcome, alternatives),
+        "movement": movement(outcome, alternatives, getattr(result, "strategy", None)),
     }
     if hasattr(result, "outcome"):
         entry.update({"strategy": result.strategy, "refined": bool(result.refined),
-                      "required_shift_h": number(result.required_shift_h)})
+                      "required_shift_h": number(result.required_shift_h),
+                      "moved_as_named": moved_as_named(result)})
     return entry
 
 

@@ -45,6 +45,7 @@ from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError
 from planner.intervals import free_segments
 from planner.trips.model import (
+    IN_FLIGHT_SETTLE_H,
     WAKE_BEFORE_DEPARTURE_H,
     Plan,
     Targets,
@@ -80,8 +81,14 @@ WINDOW_LATTICE_H = 0.25
 #: runs over the hours after CBTmin and the delaying side over the hours before it, where a
 #: type 1 PRC has its advance and delay regions (Khalsa et al. 2003, J Physiol 549:945).
 RESPONSE_SIDE_H = 8.0
-#: Shortest prescribed window [min]: shorter ones are dropped (a practicality limit of this planner).
-MIN_WINDOW_MINUTES = 10.0
+#: Shortest prescribed window [min]: shorter ones are dropped, as too short to be worth doing (a
+#: practicality limit of this planner).
+MIN_WINDOW_MINUTES = 15.0
+#: Width of each response lobe around CBTmin [h]: light in the LOBE_H hours after CBTmin advances
+#: the clock and light in the LOBE_H hours before it delays (the advance and delay regions of the
+#: human PRC to bright light, Khalsa et al. 2003, J Physiol 549:945, Fig. 2). A bright-light window
+#: sits in the lobe that moves the clock the planned way, a light-avoidance window in the other.
+LOBE_H = 10.0
 #: Longest prescribed light-avoidance window [h] (a practicality limit of this planner).
 MAX_AVOIDANCE_H = 4.0
 #: A trip back home whose time at the destination is at most this many full days is planned
@@ -91,12 +98,9 @@ SHORT_STAY_DAYS = 3
 #: Staying on home time succeeds while CBTmin keeps within this of its home phase [h]
 #: (the re-entrainment tolerance, read the other way round).
 HOME_TIME_TOLERANCE_H = REENTRAINMENT_TOLERANCE_H
-#: Hours after take-off and around landing without sleep when sleeping on a flight [h]
-#: (boarding, meals, landing; a planner's default, common practice).
-IN_FLIGHT_SETTLE_H = 1.0
-#: A day's windows stay within this distance of its anchor (predicted CBTmin), so that the
-#: windows of consecutive days (anchors about 24 h apart) cannot claim the same hours.
-ANCHOR_REACH = timedelta(hours=HOURS_PER_DAY / 2)
+#: Rounds of moving windows into the lobes of the plan's own simulated CBTmin (see
+#: :func:`keep_to_lobes`); the windows settle in one or two (measured here).
+LOBE_ROUNDS = 4
 
 
 @dataclass(frozen=True)
@@ -123,6 +127,8 @@ class Outcome:
     aim: Aim = "route"
     #: Largest |CBTmin − target| from the arrival day until the return flight (or the end) [h].
     max_away_error_h: float = math.nan
+    #: Every simulated CBTmin of the plan (UTC), in order.
+    cbtmins: tuple[datetime, ...] = ()
 
     @property
     def near_low_amplitude(self) -> bool:
@@ -244,7 +250,8 @@ class Evaluator:
         score = person_score(settled.day, np.asarray(stay)) + plan_burden_days(self.trip, plan)
         finite = [abs(e) for e in stay if math.isfinite(e)]
         largest = max(finite) if finite else math.nan
-        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
+        every = tuple(epoch + timedelta(hours=float(h)) for h in marker_h if math.isfinite(h))
+        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest, every)
 
 
 def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
@@ -308,13 +315,15 @@ def _longest(segments):
 def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidden) -> Window | None:
     """The longest part of [start, end] the traveller can use for ``source``; None if none.
 
-    Light boxes and dark glasses avoid sleep, flights and busy hours; daylight also needs the
-    sun up at the place the traveller is.
+    Light boxes and dark glasses avoid sleep, flights and busy hours.  Daylight needs the sun up
+    at the place the traveller is, and so do dark glasses: after sunset they are a hazard on the
+    road and on foot (the cautions' "never while driving or cycling at night or in dim light";
+    the roster planner keeps the same rule).
     """
     light = trip.light
     segments = free_segments(start, end, forbidden)
-    if source == "daylight":
-        if not light.daylight:
+    if source in ("daylight", "dark glasses"):
+        if source == "daylight" and not light.daylight:
             return None
         place = where_at(trip, start)
         if place is None:
@@ -325,6 +334,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
                 continue
             sunny += daylight_within(trip, place, s, e)
         segments = sunny
+    if source == "daylight":
         cap, lux = light.daylight_max_minutes, light.daylight_lux
     elif source == "light box":
         cap, lux = light.box_max_minutes, light.box_lux
@@ -338,6 +348,33 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
         return None
     return Window(s, e, lux, source)
+
+
+def lobe(cbtmin: datetime, kind: Literal["bright", "avoid"], strategy: Strategy) -> tuple[datetime, datetime]:
+    """The hours around ``cbtmin`` where a window of ``kind`` moves the clock the ``strategy``'s way.
+
+    Bright light for an advance goes in the ``LOBE_H`` hours after CBTmin, for a delay in the
+    ``LOBE_H`` hours before it; light-avoidance takes the other lobe, where light would push the
+    clock the wrong way (Khalsa et al. 2003, J Physiol 549:945).
+    """
+    after = (kind == "bright") == (strategy == "advance")
+    reach = timedelta(hours=LOBE_H)
+    return (cbtmin, cbtmin + reach) if after else (cbtmin - reach, cbtmin)
+
+
+def nearest_cbtmin(cbtmins: Sequence[datetime], moment: datetime) -> datetime | None:
+    """The simulated CBTmin closest to ``moment``; None without any."""
+    return min(cbtmins, key=lambda c: abs(hours_between(c, moment))) if cbtmins else None
+
+
+def in_lobe(window: Window, cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"], strategy: Strategy) -> bool:
+    """Whether the window's midpoint lies in its lobe (:func:`lobe`) of the nearest simulated CBTmin."""
+    middle = window.start + (window.end - window.start) / 2
+    anchor = nearest_cbtmin(cbtmins, middle)
+    if anchor is None:
+        return True
+    lo, hi = lobe(anchor, kind, strategy)
+    return lo <= middle <= hi
 
 
 @dataclass(frozen=True)
@@ -385,10 +422,10 @@ class TripPlanner:
             if anchor is None:
                 continue
             # A day's windows sit on either side of its CBTmin, so they may fall on the evening
-            # before the day (delaying light before a CBTmin just after midnight): they are
-            # bounded by the anchor's own half-day, not by the calendar day.
-            lo = max(anchor - ANCHOR_REACH, self.trip.start)
-            hi = min(anchor + ANCHOR_REACH, self.trip.end)
+            # before the day (delaying light before a CBTmin just after midnight): each is bounded
+            # by its lobe of the anchor (:func:`lobe`), not by the calendar day.
+            lo, hi = lobe(anchor, "bright", strategy)
+            lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             if choice.bright_hours > 0:
                 s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
                 e = s + timedelta(hours=choice.bright_hours)
@@ -403,6 +440,8 @@ class TripPlanner:
                 if window is not None:
                     bright.append(window)
                     used[key] = used.get(key, 0.0) + window.minutes
+            lo, hi = lobe(anchor, "avoid", strategy)
+            lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             if choice.avoid_hours > 0:
                 s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
                 e = s + timedelta(hours=choice.avoid_hours)
@@ -638,13 +677,49 @@ class TripPlanResult:
     citations: list
 
 
+def _clipped_to_lobes(windows: Sequence[Window], cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"],
+                      strategy: Strategy) -> tuple[Window, ...]:
+    """Each window cut to its lobe of the nearest simulated CBTmin; pieces under ``MIN_WINDOW_MINUTES`` dropped."""
+    kept = []
+    for window in windows:
+        anchor = nearest_cbtmin(cbtmins, window.start + (window.end - window.start) / 2)
+        start, end = window.start, window.end
+        if anchor is not None:
+            lo, hi = lobe(anchor, kind, strategy)
+            start, end = max(start, lo), min(end, hi)
+        if hours_between(start, end) * 60.0 >= MIN_WINDOW_MINUTES - 1e-6:
+            kept.append(window if (start, end) == (window.start, window.end)
+                        else Window(start, end, window.lux, window.source))
+    return tuple(kept)
+
+
+def keep_to_lobes(evaluator: Evaluator, outcome: Outcome, strategy: Strategy) -> Outcome:
+    """The plan of ``outcome`` with every window in its lobe of the plan's own simulated CBTmin.
+
+    The search places windows around a *predicted* CBTmin; the plan it settles on moves CBTmin,
+    so a window can end up on the wrong side of it, where bright light would push the clock the
+    other way.  Windows are cut to their lobe (:func:`lobe`) of the nearest simulated CBTmin and
+    the plan simulated again, until nothing changes (``LOBE_ROUNDS`` at most).
+    """
+    for _ in range(LOBE_ROUNDS):
+        plan = outcome.plan
+        bright = _clipped_to_lobes(plan.bright, outcome.cbtmins, "bright", strategy)
+        avoid = _clipped_to_lobes(plan.avoid, outcome.cbtmins, "avoid", strategy)
+        if bright == plan.bright and avoid == plan.avoid:
+            break
+        outcome = evaluator.evaluate([Plan(plan.sleep, bright, avoid)], final=True)[0]
+    return outcome
+
+
 def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) -> StrategyResult:
-    """Greedy plan for one strategy, then global refinement; the better of the two."""
+    """Greedy plan for one strategy, then global refinement; the better of the two, its windows
+    kept in their lobes of its own simulated CBTmin (:func:`keep_to_lobes`)."""
     choices, anchors, greedy_outcome = planner.greedy(strategy)
     refined_choices, refined_outcome = planner.refine(strategy, choices, anchors, seed=seed)
     better = refined_outcome.score < greedy_outcome.score - 1e-9
     outcome = refined_outcome if better else greedy_outcome
     outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
+    outcome = keep_to_lobes(planner.evaluator, outcome, strategy)
     return StrategyResult(strategy, outcome, greedy_outcome.score, better,
                           required_shift_h(planner.trip, planner.evaluator, strategy),
                           tuple(refined_choices if better else choices), tuple(anchors))
@@ -652,6 +727,27 @@ def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) ->
 
 def _days_or_inf(outcome: Outcome) -> float:
     return math.inf if outcome.reentrainment_days is None else float(outcome.reentrainment_days)
+
+
+def moved(outcome: Outcome) -> str:
+    """How the body clock actually moved over the time away, e.g. "advanced 8.9 h"."""
+    if outcome.direction == "none":
+        return f"moved under 1 h (net {outcome.net_shift_h:+.1f} h)"
+    return f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {abs(outcome.net_shift_h):.1f} h"
+
+
+def moved_as_named(result: StrategyResult) -> bool:
+    """Whether an advance (delay) plan moved the clock earlier (later), as its name says."""
+    return result.strategy not in ("advance", "delay") or result.outcome.direction == result.strategy
+
+
+def _plan_words(result: StrategyResult) -> str:
+    """A plan named by what it did: "the advance plan (clock advanced 8.9 h)", with a warning when
+    the clock went the other way than the plan's name."""
+    text = f"the {result.strategy} plan (clock {moved(result.outcome)}"
+    if not moved_as_named(result):
+        text += f", the other way than a {result.strategy} intends"
+    return text + ")"
 
 
 def recommend(results: dict) -> tuple[Strategy, str]:
@@ -664,17 +760,19 @@ def recommend(results: dict) -> tuple[Strategy, str]:
     a_days, d_days = _days_or_inf(adv.outcome), _days_or_inf(dly.outcome)
     fast, slow = (adv, dly) if (a_days, adv.outcome.box_minutes) <= (d_days, dly.outcome.box_minutes) else (dly, adv)
     f_days, s_days = _days_or_inf(fast.outcome), _days_or_inf(slow.outcome)
+    fast_words, slow_words = _plan_words(fast), _plan_words(slow)
     if fast.outcome.near_low_amplitude and not slow.outcome.near_low_amplitude and s_days - f_days <= 1:
-        return slow.strategy, (f"{slow.strategy} is at most a day slower and, unlike {fast.strategy}, does not pass "
+        return slow.strategy, (f"{slow_words} is at most a day slower and, unlike {fast_words}, does not pass "
                                "near low circadian amplitude, where the response to light is unpredictable")
     if math.isinf(f_days):
-        return fast.strategy, (f"neither strategy re-entrains within the trip; {fast.strategy} ends closest "
+        return fast.strategy, (f"neither plan re-entrains within the trip; {fast_words} ends closest "
                                "to the target")
     if f_days == s_days:
-        return fast.strategy, f"both re-entrain in {int(f_days)} days; {fast.strategy} needs less light-box time"
+        return fast.strategy, (f"both re-entrain in {int(f_days)} days; {fast_words} needs less light-box time "
+                               f"than {slow_words}")
     slower = "does not re-entrain within the trip" if math.isinf(s_days) else f"needs {int(s_days)}"
-    return fast.strategy, (f"{fast.strategy} re-entrains in {int(f_days)} days after arrival; "
-                           f"{slow.strategy} {slower}")
+    return fast.strategy, (f"{fast_words} re-entrains in {int(f_days)} days after arrival; "
+                           f"{slow_words} {slower}")
 
 
 def plan_home_time(planner: TripPlanner) -> StrategyResult:
