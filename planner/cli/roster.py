@@ -85,7 +85,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
                              "; no plan: the same draft without light measures."), caption_justify="left")
-    for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day"):
+    for header in ("#", "draft", "rules", "strategy", "score h/wk", "no plan", "worst day"):
         ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
@@ -100,7 +100,9 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         worst = int(m.worst_day[0])
         unadapted, runs = unadapted_runs(m, "night")
         adapt = mean_days(m, "night")
-        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], score_text(d),
+        rules = "ok" if d.conforms else f"[yellow]{len(d.breaches)} broken[/yellow]"
+        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", rules, SHORT_NAMES[d.best_strategy],
+                        score_text(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
                         f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
@@ -110,6 +112,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     console.print(ranking)
     for d in result.drafts:
         console.print(f"  [dim]{escape(d.draft.name)}: {escape(pattern_text(d.draft))} ×{d.draft.cycles}[/dim]")
+    _print_breaches(console, result.drafts)
     console.print(parts)
     console.print(f"[bold]Ranking:[/bold] {escape(result.reason)}")
 
@@ -175,6 +178,20 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     print_cautions(console, cautions_for(SHIFT_CAUTIONS), planned.models_used)
 
 
+def _print_breaches(console: Console, drafts: list[DraftResult]) -> None:
+    """Working-time rules each draft breaks, with the days, under the ranking."""
+    for d in drafts:
+        if d.conforms:
+            continue
+        console.print(f"  [bold yellow]{escape(d.draft.name)} breaks working-time rules[/bold yellow] "
+                      f"({len(d.breaches)}); ranked after every conforming draft:")
+        for breach in d.breaches[:6]:
+            crew = f"crew {escape(breach.crew)}: " if breach.crew else ""
+            console.print(f"    {crew}{escape(breach.message)} [dim]({escape(breach.source)})[/dim]")
+        if len(d.breaches) > 6:
+            console.print(f"    and {len(d.breaches) - 6} more (--json lists all)")
+
+
 def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensemble: RosterEnsemble) -> None:
     table = Table(box=box.SIMPLE_HEAD)
     for header in ("model", "score h/wk", "night runs unadapted"):
@@ -237,10 +254,13 @@ def roster_command(
     alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
     no_alarms: NoAlarmsOption = False,
     group: GroupOption = None,
+    strict: Annotated[bool, typer.Option(
+        "--strict", help=("Refuse drafts that break the working-time rules (the file's [rules]) instead of ranking "
+                          "them last."))] = False,
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
-                                    model_list(models_list), group)
+                                    model_list(models_list), group, strict=strict)
     run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group))
 
 

@@ -48,7 +48,7 @@ from planner.plans.entries import clock, lux_text
 from planner.plans.files import PlanFiles, write_plan_files
 from planner.plans.ics import DEFAULT_ALARM_MINUTES
 from planner.trips.evidence import StartingPhase
-from planner.trips.model import Trip
+from planner.trips.model import Trip, sleep_setting
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo
 from planner.trips.search import REENTRAINMENT_TOLERANCE_H, TripPlanResult
@@ -105,6 +105,11 @@ def _span_cell(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
     return f"{_clock_cell(trip, a, row_zone)}–{_clock_cell(trip, b, row_zone)}"
 
 
+def _sleep_cell(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
+    setting = sleep_setting(trip, a, b)
+    return _span_cell(trip, a, b, row_zone) + ("" if setting == "bed" else f"\n{setting}")
+
+
 def _window_cell(trip: Trip, window: Window, row_zone: str) -> str:
     text = f"{_span_cell(trip, window.start, window.end, row_zone)} {window.minutes:.0f} min"
     if window.source == "dark glasses":
@@ -133,7 +138,7 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                            "the minimum moved past midnight that day. vs target: CBTmin against the entrained "
                            f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; ✓ within "
                            f"{REENTRAINMENT_TOLERANCE_H:g} h."))
-    for header in ("day", "clock", "sleep", "bright light", "avoid light", "CBTmin", f"vs {aim}"):
+    for header in ("day", "clock", "sleep", "bright light", "light-avoidance", "CBTmin", f"vs {aim}"):
         table.add_column(header, no_wrap=header in ("day", "clock", "CBTmin"), overflow="fold")
     for view in views:
         day = view.day
@@ -147,7 +152,7 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                 clock = f"{row_zone}\n→ {zone_label(end)}"
             last = (day.end - timedelta(minutes=1)).astimezone(day.end_place.zone).strftime("%a %d %b")
             date_text += f"\n→ {last}" if last != date_text else ""
-        sleep = "\n".join(_span_cell(trip, a, b, row_zone) for a, b in view.sleep) or NONE_TEXT
+        sleep = "\n".join(_sleep_cell(trip, a, b, row_zone) for a, b in view.sleep) or NONE_TEXT
         bright = "\n".join(_window_cell(trip, w, row_zone) for w in view.bright) or NONE_TEXT
         avoid = "\n".join(_window_cell(trip, w, row_zone) for w in view.avoid) or NONE_TEXT
         cbtmin = _clock_cell(trip, view.cbtmin, row_zone) if view.cbtmin is not None else NONE_TEXT

@@ -82,6 +82,7 @@ from planner.rosters.model import (
     roster_schedule,
     sunlit,
 )
+from planner.rosters.rules import breaches_text, check_draft
 from planner.world.light import LightOptions, Window, hours_between
 
 Strategy = Literal["nights", "compromise", "day"]
@@ -663,6 +664,12 @@ class DraftResult:
     chosen: str
     population: PopulationSummary | None
     robust: RobustChoice | None = None
+    #: Working-time rules the draft breaks (:mod:`planner.rosters.rules`); empty when it conforms.
+    breaches: tuple = ()
+
+    @property
+    def conforms(self) -> bool:
+        return not self.breaches
 
     @property
     def best(self) -> StrategyOutcome:
@@ -793,7 +800,7 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
 
 
 def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | Strategy = "auto", *,
-                workers: int = 0, seed: int = 0, robust: bool = False,
+                workers: int = 0, seed: int = 0, robust: bool = False, strict: bool = False,
                 sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN,
                 progress: Callable[[int, int, str], None] | None = None) -> RosterResult:
     """Plan every draft of a roster and rank the drafts.
@@ -814,6 +821,9 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     robust : bool
         Also score every candidate over :data:`ROBUST_SEARCH_WORKERS` drawn workers (intrinsic period
         and light sensitivity) and recommend the plan with the lowest mean score (:func:`robust_draft`).
+    strict : bool
+        Refuse (InputError) a roster with any draft breaking the working-time rules
+        (:mod:`planner.rosters.rules`); without it such drafts are planned and ranked last.
     progress : callable(done, total, label), optional
         Called after each step of work (the CLI draws a progress bar with it).
     """
@@ -831,6 +841,13 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
         if progress is not None:
             progress(done, steps, label)
 
+    # the working-time rules come before any circadian score
+    breaches = {draft.name: check_draft(roster, draft) for draft in roster.drafts}
+    if strict and any(breaches.values()):
+        broken = [name for name, found in breaches.items() if found]
+        first = breaches[broken[0]]
+        raise InputError(f"{len(broken)} draft(s) break the working-time rules and --strict refuses them: "
+                         f'"{broken[0]}": {breaches_text(first, 1)}', field="drafts")
     evaluator = RosterEvaluator(roster, model)
     population = people_state = None
     if workers:
@@ -858,9 +875,10 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
             summary = _summarise_population(roster, draft, metrics, population, period(roster, draft)[0])
             tick(f"simulated {population.size} workers on {draft.name}")
         results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary,
-                                   robust_choice))
+                                   robust_choice, tuple(breaches[draft.name])))
     finite = all(math.isfinite(r.rank_score) for r in results)
-    ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
+    # every draft that keeps the working-time rules ranks before every draft that breaks them
+    ranked = sorted(results, key=lambda r: (not r.conforms, r.rank_score if math.isfinite(r.rank_score) else math.inf,
                                             roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
     message = (f"{len(ranked)} draft(s) planned; least disruptive: {ranked[0].draft.name}" if finite else
@@ -870,7 +888,19 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
 
 
 def ranking_reason(ranked: Sequence[DraftResult]) -> str:
-    """Plain words for why the first draft ranks first."""
+    """Plain words for why the first draft ranks first (and which drafts break working-time rules)."""
+    breaking = [r for r in ranked if not r.conforms]
+    if breaking and len(breaking) == len(ranked):
+        prefix = "every draft breaks working-time rules (see each draft); among them "
+    elif breaking:
+        prefix = (f"{', '.join(r.draft.name for r in breaking)} break{'s' if len(breaking) == 1 else ''} "
+                  "working-time rules and rank last; ")
+    else:
+        prefix = ""
+    return prefix + _score_reason(ranked)
+
+
+def _score_reason(ranked: Sequence[DraftResult]) -> str:
     first = ranked[0]
     what = "median worker" if first.population is not None else "average worker"
     text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "

@@ -151,7 +151,7 @@ def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
     """(summary, action, purpose) of a light window in plain words."""
     minutes = round(window.minutes)
     if window.source == "dark glasses":
-        return ("Avoid light: dark glasses",
+        return ("Dim light: dark glasses",
                 f"Wear the dark glasses for {minutes} min from the end of the shift until you are indoors (they pass "
                 f"{window.lux:.0%} of the light); take them off to drive in dim light.",
                 "Morning light after a night shift falls after the body clock's minimum (CBTmin) and would move "

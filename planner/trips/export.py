@@ -14,7 +14,7 @@ from planner.engine.parameters import ModelSpec
 from planner.plans.cautions import cautions_for
 from planner.plans.entries import citation_entry, clock, model_entry, number, window_entry
 from planner.trips.evidence import StartingPhase
-from planner.trips.model import Trip, trip_days
+from planner.trips.model import Trip, sleep_setting, trip_days
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, distribution_spec
 from planner.trips.scenario import ScenarioInfo
 from planner.trips.search import TripPlanResult, moved_as_named
@@ -59,7 +59,8 @@ def day_entry(trip: Trip, view: DayView) -> dict[str, Any]:
         "start": local_iso(trip, day.start),
         "end": local_iso(trip, day.end),
         "target_place": view.target_place.name,
-        "sleep": [{"start": local_iso(trip, a), "end": local_iso(trip, b)} for a, b in view.sleep],
+        "sleep": [{"start": local_iso(trip, a), "end": local_iso(trip, b), "setting": sleep_setting(trip, a, b)}
+                  for a, b in view.sleep],
         "bright_light": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.bright],
         "light_avoidance": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.avoid],
         "cbtmin": local_iso(trip, view.cbtmin) if view.cbtmin is not None else None,

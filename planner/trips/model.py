@@ -241,14 +241,26 @@ def sleep_spots(trip: Trip) -> list[tuple[datetime, datetime, str]]:
     return sorted((a, b, where) for a, b, where in spots if b - a >= least)
 
 
+def sleep_setting(trip: Trip, start: datetime, end: datetime) -> Literal["in flight", "layover", "bed"]:
+    """Where a planned sleep happens: on a flight, on a layover between flights, or in a bed at a place."""
+    middle = start + (end - start) / 2
+    if where_at(trip, middle) is None:
+        return "in flight"
+    if any(a <= start and end <= b for a, b, where in sleep_spots(trip) if where == "layover"):
+        return "layover"
+    return "bed"
+
+
 def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list[tuple[datetime, datetime]]:
     """Sleep on flights and layovers added to ``episodes`` (sorted, none overlapping travel).
 
     First each travel spot (:func:`sleep_spots`) takes the part of it that falls in the night of
     the place it is heading for, so the sleep lands where the new day will want it (the usual
     advice to sleep on board when it is night at the destination).  Then every planned waking gap
-    longer than ``MAX_WAKE_H`` that holds a travel spot gets a sleep opportunity there, placed to
-    split the gap as evenly as the spot allows and as long as a habitual night at most.
+    longer than ``MAX_WAKE_H`` that holds a travel spot gets a nap there: as short as keeps both
+    parts of the gap within ``MAX_WAKE_H`` (``MIN_TRAVEL_SLEEP_H`` at least), placed to split the
+    gap as evenly as the spot allows, so that it breaks the long day without taking the place of
+    the night's sleep.
     """
     spots = sleep_spots(trip)
     added = []
@@ -261,7 +273,6 @@ def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list
             for lo, hi in free_segments(max(a, bed), min(b, wake), sorted(episodes + added)):
                 if hi - lo >= timedelta(hours=MIN_TRAVEL_SLEEP_H):
                     added.append((lo, hi))
-    night = timedelta(hours=(trip.home.wake_h - trip.home.bed_h) % HOURS_PER_DAY)
     longest = timedelta(hours=MAX_WAKE_H)
     merged = sorted(episodes + added)
     for _ in range(len(spots)):
@@ -272,7 +283,7 @@ def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list
                 lo, hi = max(a, awake), min(b, asleep)
                 if hi - lo < timedelta(hours=MIN_TRAVEL_SLEEP_H):
                     continue
-                length = min(hi - lo, night)
+                length = min(hi - lo, max(timedelta(hours=MIN_TRAVEL_SLEEP_H), (asleep - awake) - 2 * longest))
                 start = awake + ((asleep - awake) - length) / 2
                 start = min(max(start, lo), hi - length)
                 merged = sorted(merged + [(start, start + length)])
