@@ -238,3 +238,49 @@ def test_no_user_facing_text_says_avoid_light():
     for path in list((REPO / "planner").rglob("*.py")) + [REPO / "README.md"]:
         text = path.read_text(encoding="utf-8")
         assert not re.search(r"avoid light", text, re.IGNORECASE), path
+
+
+# --------------------------------------------------------------------------- narrow terminals
+
+@pytest.fixture
+def stored_demo(planned_demos, monkeypatch):
+    """Let the CLI reuse the session's plan of the default demo instead of planning it again."""
+    from planner.trips.scenario import DEFAULT_DEMO
+    stored_trip, _, stored = planned_demos(DEFAULT_DEMO)
+    real = planner.service.search_trip
+
+    def stand_in(trip, model, strategy="auto", **kwargs):
+        if trip == stored_trip and strategy == "auto" and model.id == "forger1999":
+            return stored
+        return real(trip, model, strategy, **kwargs)
+
+    monkeypatch.setattr(planner.service, "search_trip", stand_in)
+
+
+def demo_output(columns: int) -> list[str]:
+    result = CliRunner().invoke(app, ["demo"], env={"COLUMNS": str(columns)})
+    assert result.exit_code == 0, result.output
+    return result.output.splitlines()
+
+
+def words(lines: list[str]) -> list[str]:
+    return re.findall(r"[A-Za-z]+", " ".join(lines))
+
+
+def test_at_80_columns_the_demo_is_an_agenda_with_whole_words_and_the_recommendation_first(stored_demo):
+    # the issue's acceptance check: no line over 80 characters, no word broken, recommendation in the first 25 lines
+    narrow = demo_output(80)
+    assert max(len(line) for line in narrow) <= 80
+    assert any(line.startswith("Recommended:") for line in narrow[:25])
+    assert any(re.match(r"\s+\d\d:\d\d–\d\d:\d\d\s+bright light, ", line) for line in narrow)   # one line per action
+    # the same agenda at 109 columns wraps elsewhere; a word cut at 80 would show as two different words
+    wider = demo_output(109)
+    assert words(narrow) == words(wider)
+    assert max(len(line) for line in wider) <= 109
+
+
+def test_at_160_columns_the_demo_keeps_the_table(stored_demo):
+    wide = demo_output(160)
+    assert max(len(line) for line in wide) <= 160
+    header = next(line for line in wide if "bright light" in line and "light-avoidance" in line)
+    assert "sleep" in header and "CBTmin" in header

@@ -16,6 +16,7 @@ from rich.panel import Panel
 from rich.table import Table
 
 from planner import service
+from planner.cli.agenda import AGENDA_BELOW_COLUMNS, print_agenda, print_comparison_lines
 from planner.cli.app import app
 from planner.cli.common import (
     NONE_TEXT,
@@ -165,7 +166,10 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
                 views: list[DayView]) -> None:
     change = clock_change_h(trip)
     way = "east" if change > 0 else "west"
+    narrow = console.width < AGENDA_BELOW_COLUMNS
     console.print(f"[bold]{escape(info.name)}[/bold]")
+    if narrow:   # the recommendation and its reason first; the agenda follows
+        _print_recommendation(console, plan)
     if info.description:
         console.print(escape(info.description))
     route = " → ".join([escape(trip.home.name)] + [escape(f.destination.name) for f in trip.flights])
@@ -175,6 +179,11 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
              ("model", escape(model.id))]
     print_facts(console, None, facts)
 
+    if narrow:
+        print_agenda(console, trip, views, f"Day-by-day plan: {escape(strategy_name(plan.strategy))}")
+        print_comparison_lines(console, plan)
+        console.print(f"  {plan.simulated:,} light schedules simulated")
+        return
     console.print(_day_table(trip, views, f"Day-by-day plan: {escape(strategy_name(plan.strategy))}"))
 
     comparison = Table(box=box.SIMPLE_HEAD)
@@ -187,13 +196,17 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
         comparison.add_row(label, settling(outcome), f"{outcome.box_minutes:.0f} min",
                            "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives, name)))
     console.print(Panel(comparison, title="Advance, delay or no plan", title_align="left"))
+    _print_recommendation(console, plan)
+    console.print(f"  {plan.simulated:,} light schedules simulated")
+
+
+def _print_recommendation(console: Console, plan: TripPlanResult) -> None:
     console.print(f"[bold]Recommended:[/bold] {escape(strategy_name(plan.strategy))} — {escape(plan.reason)}")
     if plan.success:
         console.print(f"[bold]Result:[/bold] {escape(plan.message)}")
     else:
         console.print(f"[bold yellow]Not reached:[/bold yellow] {escape(plan.message)}. This is the best plan "
                       "found; consider more preparation days, more light, or a longer stay.")
-    console.print(f"  {plan.simulated:,} light schedules simulated")
 
 
 def run_trip(request: service.TripRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:
