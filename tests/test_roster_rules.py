@@ -141,3 +141,28 @@ def test_json_lists_the_breaches_and_strict_refuses(factory):
     assert [b["rule"] for b in ranking["night into morning"]["breaches"]] == ["overlap"]
     assert document["working_time_rules"]["daily_rest_h"] == 11.0
     json.dumps(document)
+
+
+def test_scores_say_whose_they_are_and_when_drafts_are_within_the_spread(factory):
+    # A difference smaller than the spread between workers does not single out one draft for a crew
+    # (common practice of reading percentile ranges, no single source).
+    from types import SimpleNamespace
+
+    from planner.rosters.search import ranking_reason, within_spread, whose_score
+
+    def draft(name, p10, median, p90, size=40):
+        population = SimpleNamespace(size=size, score={"p10": p10, "median": median, "p90": p90})
+        return SimpleNamespace(draft=SimpleNamespace(name=name), population=population, rank_score=median,
+                               best_strategy="nights", conforms=True, breaches=())
+
+    a, b, far = draft("A", 5.0, 6.0, 8.0), draft("B", 5.5, 6.6, 9.0), draft("C", 9.0, 11.0, 12.0)
+    assert within_spread(a, b) and not within_spread(a, far)
+    assert whose_score(a) == "the median of 40 workers"
+    close = ranking_reason([a, b])
+    assert "median of 40 workers" in close and "within the population spread of each other" in close
+    assert "0.6 h/wk" in close
+    assert "larger than the spread between workers" in ranking_reason([a, far])
+    alone = SimpleNamespace(draft=SimpleNamespace(name="A"), population=None, rank_score=6.0, best_strategy="nights",
+                            conforms=True, breaches=())
+    assert within_spread(alone, alone) is None
+    assert "average worker only" in ranking_reason([alone, alone])

@@ -85,8 +85,9 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
                              "; no plan: the same draft without light measures."), caption_justify="left")
-    for header in ("#", "draft", "rules", "strategy", "score h/wk", "no plan", "worst day"):
-        ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
+    score_header = (escape(f"score h/wk, median [p10–p90] of {workers}") if workers else "score h/wk, average worker")
+    for header in ("#", "draft", "rules", "strategy", score_header, "no plan", "worst day"):
+        ranking.add_column(header, no_wrap=header not in ("draft", "worst day", score_header))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
                            "sleep outside the biological night (not scored); nights adapt: mean days from the first night "
@@ -122,7 +123,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     for name, outcome in list(chosen.strategies.items()) + [("none", chosen.baseline)]:
         label = f"[bold]{SHORT_NAMES[name]}[/bold] ✓" if name == chosen.chosen else SHORT_NAMES[name]
         strategies.add_row(label, f"{outcome.score:.1f}", escape(describe_settings(outcome.plan)))
-    console.print(Panel(strategies, title=f"Strategies for {escape(chosen.draft.name)} (score h/wk)",
+    console.print(Panel(strategies, title=f"Strategies for {escape(chosen.draft.name)} (score h/wk, average worker)",
                         title_align="left"))
 
     if chosen.robust is not None:
@@ -200,7 +201,8 @@ def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensem
         unadapted, runs = unadapted_runs(member.metrics, "night")
         table.add_row(escape(member.model.id), f"{member.metrics.score[0]:.1f}",
                       f"{unadapted} of {runs}" if runs else NONE_TEXT)
-    console.print(Panel(table, title=f"The plan for {escape(chosen.draft.name)} under each model", title_align="left"))
+    console.print(Panel(table, title=f"The plan for {escape(chosen.draft.name)} under each model (average worker)",
+                        title_align="left"))
     low, high = ensemble.score_range
     if ensemble.disagree_days:
         dates = ", ".join(chosen.days[d].date.strftime("%d %b") for d in ensemble.disagree_days[:8])

@@ -27,6 +27,7 @@ from planner.rosters.search import (
     RosterResult,
     StrategyOutcome,
     describe_settings,
+    whose_score,
 )
 from planner.rosters.views import RosterDayView, chart_legend, day_views, text_chart
 
@@ -187,6 +188,7 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
             "days": len(d.days),
             "chosen_strategy": d.best_strategy,
             "rank_score_h_per_week": number(d.rank_score),
+            "rank_score_of": whose_score(d),
             "plan": metrics_entry(roster, d, d.best),
             "strategies": {name: metrics_entry(roster, d, outcome) for name, outcome in d.strategies.items()},
             "no_plan": metrics_entry(roster, d, d.baseline),

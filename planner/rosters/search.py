@@ -894,21 +894,52 @@ def ranking_reason(ranked: Sequence[DraftResult]) -> str:
         prefix = "every draft breaks working-time rules (see each draft); among them "
     elif breaking:
         prefix = (f"{', '.join(r.draft.name for r in breaking)} break{'s' if len(breaking) == 1 else ''} "
-                  "working-time rules and rank last; ")
+                  "working-time rules and rank last whatever their scores; among the drafts keeping them, ")
     else:
         prefix = ""
     return prefix + _score_reason(ranked)
 
 
+def whose_score(result: DraftResult) -> str:
+    """Whose score a draft is ranked by, e.g. "the average worker" or "the median of 40 workers"."""
+    if result.population is not None:
+        return f"the median of {result.population.size} workers"
+    return "the average worker"
+
+
+def within_spread(a: DraftResult, b: DraftResult) -> bool | None:
+    """Whether two drafts' population scores overlap (each median inside the other's 10th–90th
+    percentile range); None without populations."""
+    if a.population is None or b.population is None:
+        return None
+    sa, sb = a.population.score, b.population.score
+    return sa["p10"] <= sb["median"] <= sa["p90"] or sb["p10"] <= sa["median"] <= sb["p90"]
+
+
 def _score_reason(ranked: Sequence[DraftResult]) -> str:
     first = ranked[0]
-    what = "median worker" if first.population is not None else "average worker"
     text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
-            f"week of work in the circadian low or biological night spent awake for the {what}")
+            f"week of work in the circadian low or biological night spent awake for {whose_score(first)}")
+    if first.population is not None:
+        s = first.population.score
+        text += f" (10th–90th percentile {s['p10']:.1f}–{s['p90']:.1f} h)"
     if len(ranked) > 1:
         others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.best_strategy]})"
                            for r in ranked[1:])
         text += f", against {others}"
+        second = ranked[1]
+        close = within_spread(first, second)
+        gap = abs(second.rank_score - first.rank_score)
+        if close is None:
+            text += (f". The {gap:.1f} h/wk between the first two is for the average worker only; plan with "
+                     "--workers to see whether it exceeds the spread between workers")
+        elif close:
+            text += (f". {first.draft.name} and {second.draft.name} are within the population spread of each other "
+                     f"(each median inside the other's 10th–90th percentiles): the {gap:.1f} h/wk between them is "
+                     "smaller than the differences between workers")
+        else:
+            text += (f". The {gap:.1f} h/wk between {first.draft.name} and {second.draft.name} is larger than the "
+                     "spread between workers")
     return text
 
 
