@@ -121,9 +121,22 @@ MIN_SLEEP_H = 1.0
 #: Bedtime on free days between nights in the compromise strategy, searched around 03:00
 #: (Smith, Fogg & Eastman 2009, Sleep 32:1481: sleep 03:00-12:00 on days off; clock time from memory).
 COMPROMISE_FREE_BEDTIMES_H = (2.0, 3.0, 4.0)
-#: Light-box start after the shift starts [h], searched (bright light early in the shift delays:
-#: it falls before CBTmin, Khalsa et al. 2003, J Physiol 549:945).
+#: Light-box start after the shift starts [h], searched by the compromise strategy (bright light early
+#: in the shift delays: it falls before CBTmin, Khalsa et al. 2003, J Physiol 549:945).
 BOX_OFFSETS_H = (0.0, 1.0, 2.0, 3.0)
+#: Step of the light-box start searched over the whole night shift by the full-adaptation strategy [h]
+#: (a search lattice of this planner).
+BOX_OFFSET_STEP_H = 1.0
+#: How much later the light box moves on each further night of a run [h], searched: a clock that
+#: delays moves its delaying lobe later night by night (Khalsa et al. 2003, J Physiol 549:945), so
+#: the box follows it (Smith & Eastman 2008, Sleep 31:1639 moved light and sleep later across nights).
+BOX_DRIFTS_H = (0.0, 1.0)
+#: Ends of the light box before each night's simulated CBTmin, tried when the box tracks the clock [h]:
+#: light in the hours just before CBTmin delays most (Khalsa et al. 2003, J Physiol 549:945, Fig. 2).
+BOX_LEADS_H = (0.5, 1.5, 2.5, 3.5)
+#: Rounds of moving the box to the CBTmin of the plan's own simulation (a design choice; two rounds
+#: settle it on the demos, measured here).
+BOX_TRACK_ROUNDS = 3
 #: Outdoor light after waking as a brake, or on the way home for the day-oriented strategy [min], searched.
 OUTDOOR_MINUTES = (0.0, 30.0, 60.0)
 
@@ -138,6 +151,7 @@ class Settings:
     box_fraction: float = 1.0
     free_bedtime_h: float = 3.0
     outdoor_minutes: float = 0.0
+    box_drift_h: float = 0.0
 
     def items(self, strategy: str) -> tuple[tuple[str, float], ...]:
         """The settings ``strategy`` uses, as (name, value) pairs."""
@@ -145,7 +159,7 @@ class Settings:
 
 
 #: Which settings each strategy uses.
-SETTINGS_USED = {"nights": ("box_offset_h", "box_fraction"),
+SETTINGS_USED = {"nights": ("box_offset_h", "box_fraction", "box_drift_h"),
                  "compromise": ("box_offset_h", "box_fraction", "free_bedtime_h", "outdoor_minutes"),
                  "day": ("outdoor_minutes",)}
 
@@ -155,8 +169,12 @@ def describe_settings(plan: RosterPlan) -> str:
     values = dict(plan.settings)
     parts = []
     boxes = [w for w in plan.bright if w.source == "light box"]
-    if "box_offset_h" in values and boxes:
-        parts.append(f"light box from {values['box_offset_h']:g} h into each night shift, "
+    if "box_lead_h" in values and boxes:
+        parts.append(f"light box {plan.box_minutes / len(boxes):.0f} min, moved each night to end "
+                     f"{values['box_lead_h']:g} h before that night's simulated CBTmin")
+    elif "box_offset_h" in values and boxes:
+        drift = f", {values['box_drift_h']:g} h later each further night" if values.get("box_drift_h") else ""
+        parts.append(f"light box from {values['box_offset_h']:g} h into each night shift{drift}, "
                      f"{plan.box_minutes / len(boxes):.0f} min")
     if "free_bedtime_h" in values:
         hours, minutes = divmod(round(values["free_bedtime_h"] * 60), 60)
@@ -279,7 +297,9 @@ def plan_for(roster: Roster, draft: Draft, strategy: Strategy | Literal["none"],
             home = (day.work[1], day.work[1] + roster.commute)
             if strategy in ("nights", "compromise") and measures.light_box and measures.box_max_minutes > 0:
                 cap_h = min(measures.box_max_minutes / 60.0, day.shift.hours) * settings.box_fraction
-                start = day.work[0] + timedelta(hours=min(settings.box_offset_h, max(day.shift.hours - cap_h, 0.0)))
+                nights_before = next((k for k in range(i + 1) if i - k - 1 < 0 or days[i - k - 1].kind != "night"), 0)
+                offset = settings.box_offset_h + settings.box_drift_h * nights_before
+                start = day.work[0] + timedelta(hours=min(offset, max(day.shift.hours - cap_h, 0.0)))
                 end = min(start + timedelta(hours=cap_h), day.work[1])
                 if end > start:
                     bright.append(Window(start, end, measures.box_lux, "light box"))
@@ -339,7 +359,12 @@ def candidate_settings(roster: Roster, strategy: Strategy) -> list[Settings]:
     fractions = (1.0, 0.5) if box else (1.0,)
     outdoor = OUTDOOR_MINUTES if measures.daylight else (0.0,)
     if strategy == "nights":
-        return [Settings(o, f) for o, f in itertools.product(offsets, fractions)]
+        if box:   # the whole night shift, on a lattice
+            longest = max((s.hours for s in roster.shifts if s.kind == "night"), default=0.0)
+            shortest_box = min(measures.box_max_minutes / 60.0, longest) * min(fractions)
+            offsets = tuple(np.arange(0.0, max(longest - shortest_box, 0.0) + 1e-9, BOX_OFFSET_STEP_H))
+        drifts = BOX_DRIFTS_H if box else (0.0,)
+        return [Settings(float(o), f, box_drift_h=d) for o, f, d in itertools.product(offsets, fractions, drifts)]
     if strategy == "compromise":
         return [Settings(o, f, bedtime, m) for o, f, bedtime, m in
                 itertools.product(offsets[:3], fractions, COMPROMISE_FREE_BEDTIMES_H, outdoor)]
@@ -748,8 +773,61 @@ def _floats(values: dict) -> dict:
     return {key: float(value) for key, value in values.items()}
 
 
+def _boxes_before(roster: Roster, draft: Draft, plan: RosterPlan, cbtmin_h: np.ndarray, lead_h: float) -> RosterPlan:
+    """``plan`` with each night shift's light box moved to end ``lead_h`` before that night's CBTmin
+    (``cbtmin_h``: the day's CBTmin [h since the draft's epoch], NaN keeps the box where it is), within the shift."""
+    days = roster_days(roster, draft)
+    epoch = period(roster, draft)[0]
+    moved = []
+    for window in plan.bright:
+        day = next((d for d in days if d.kind == "night" and d.work[0] <= window.start < d.work[1]), None)
+        if window.source != "light box" or day is None or not math.isfinite(cbtmin_h[day.index]):
+            moved.append(window)
+            continue
+        length = window.end - window.start
+        end = epoch + timedelta(hours=float(cbtmin_h[day.index]) - lead_h)
+        end = min(max(end, day.work[0] + length), day.work[1])
+        moved.append(Window(end - length, end, window.lux, window.source))
+    settings = tuple((k, v) for k, v in plan.settings if k not in ("box_offset_h", "box_drift_h"))
+    return replace(plan, bright=tuple(moved), settings=settings + (("box_lead_h", lead_h),))
+
+
+def _boxes_end_by_cbtmin(roster: Roster, draft: Draft, plan: RosterPlan, cbtmin_h: np.ndarray, epoch: datetime) -> bool:
+    """Whether every night's light box ends by that night's simulated CBTmin (unknown CBTmin: allowed)."""
+    days = roster_days(roster, draft)
+    for window in plan.bright:
+        day = next((d for d in days if d.kind == "night" and d.work[0] <= window.start < d.work[1]), None)
+        if window.source != "light box" or day is None or not math.isfinite(cbtmin_h[day.index]):
+            continue
+        if window.end > epoch + timedelta(hours=float(cbtmin_h[day.index])):
+            return False
+    return True
+
+
+def track_box(evaluator: RosterEvaluator, draft: Draft, plan: RosterPlan, score: float) -> tuple[RosterPlan, int]:
+    """Let the light box of a full-adaptation plan follow the clock: each night's box ends a searched
+    lead before that night's simulated CBTmin, and the plan is simulated again with the boxes moved,
+    ``BOX_TRACK_ROUNDS`` times; the plan with the lowest score is kept (``plan`` itself if none beats it).
+    Returns the plan and the number of plans tried."""
+    roster = evaluator.roster
+    if not any(w.source == "light box" for w in plan.bright):
+        return plan, 0
+    best_plan, best_score, tried = plan, score, 0
+    cbtmin = evaluator.evaluate(draft, [plan]).cbtmin[0]
+    for _ in range(BOX_TRACK_ROUNDS):
+        variants = [_boxes_before(roster, draft, best_plan, cbtmin, lead) for lead in BOX_LEADS_H]
+        metrics = evaluator.evaluate(draft, variants)
+        tried += len(variants)
+        pick = int(np.argmin(metrics.score))
+        if metrics.score[pick] >= best_score - 1e-9:
+            break
+        best_plan, best_score, cbtmin = variants[pick], float(metrics.score[pick]), metrics.cbtmin[pick]
+    return best_plan, tried
+
+
 def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[Strategy]) -> tuple[StrategyOutcome, dict]:
-    """Search each strategy's settings in one batch; final plans at the validated step."""
+    """Search each strategy's settings in one batch (the full-adaptation box then tracks the clock,
+    :func:`track_box`); final plans at the validated step."""
     roster = evaluator.roster
     candidates = [(name, settings, plan_for(roster, draft, name, settings))
                   for name in strategies for settings in candidate_settings(roster, name)]
@@ -758,10 +836,22 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
     scores = searched.score[1:]
     tried = {name: [k for k, c in enumerate(candidates) if c[0] == name] for name in strategies}
     # The first of equal scores wins (candidate order), as the search has always kept it.
-    best = {name: candidates[min(ks, key=lambda k: (scores[k], k))][2] for name, ks in tried.items()}
+    if "nights" in tried:
+        # full adaptation delays the clock: keep to boxes in the delaying lobe, ending by each night's
+        # simulated CBTmin (Khalsa et al. 2003, J Physiol 549:945), when any candidate does
+        epoch = period(roster, draft)[0]
+        delaying = [k for k in tried["nights"]
+                    if _boxes_end_by_cbtmin(roster, draft, candidates[k][2], searched.cbtmin[1 + k], epoch)]
+        tried["nights"] = delaying or tried["nights"]
+    picked = {name: min(ks, key=lambda k: (scores[k], k)) for name, ks in tried.items()}
+    best = {name: candidates[k][2] for name, k in picked.items()}
+    counts = {name: sum(c[0] == name for c in candidates) for name in strategies}
+    if "nights" in best:
+        best["nights"], extra = track_box(evaluator, draft, best["nights"], float(scores[picked["nights"]]))
+        counts["nights"] += extra
     metrics = evaluator.evaluate(draft, [baseline_plan] + [best[name] for name in strategies], final=True)
     baseline = StrategyOutcome("none", baseline_plan, metrics.column(0), 1)
-    outcomes = {name: StrategyOutcome(name, best[name], metrics.column(k + 1), len(tried[name]))
+    outcomes = {name: StrategyOutcome(name, best[name], metrics.column(k + 1), counts[name])
                 for k, name in enumerate(strategies)}
     return baseline, outcomes
 
