@@ -284,3 +284,22 @@ def test_at_160_columns_the_demo_keeps_the_table(stored_demo):
     assert max(len(line) for line in wide) <= 160
     header = next(line for line in wide if "bright light" in line and "light-avoidance" in line)
     assert "sleep" in header and "CBTmin" in header
+
+
+def test_travel_sleep_reaches_the_calendar_and_the_report(own_plans):
+    # the calendar parsed back with the icalendar reference library
+    import icalendar
+
+    from planner.plans.ics import calendar_bytes
+    from planner.plans.report import report_html
+    from planner.trips.document import document_from_trip
+
+    trip, info, result = own_plans["sydney-london"]
+    document = document_from_trip(trip, info, result)
+    aboard = [e for e in document.events if e.summary == "Sleep in flight"]
+    assert aboard and all("Eye mask" in e.action for e in aboard)
+    calendar = icalendar.Calendar.from_ical(calendar_bytes(document))
+    summaries = [str(c.get("summary")) for c in calendar.walk("VEVENT")]
+    assert "Sleep in flight" in summaries
+    assert not any("avoid light" in s.lower() for s in summaries)
+    assert "(in flight)" in report_html(document)

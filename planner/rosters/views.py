@@ -7,7 +7,7 @@ every number comes from :mod:`planner.rosters.search`.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timedelta, timezone
 
 import numpy as np
@@ -15,7 +15,7 @@ import numpy as np
 from planner.engine.population import DUFFY2011_CITATION
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section, stable_id
-from planner.rosters.model import Roster, RosterDay, RosterPlan, crew_draft, roster_days
+from planner.rosters.model import Draft, Roster, RosterDay, RosterPlan, crew_draft, roster_days
 from planner.rosters.search import (
     ANCHOR_SLEEP_H,
     SHORT_NAMES,
@@ -214,6 +214,35 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None)
     return events
 
 
+def _carried_boxes(roster: Roster, draft: Draft, plan: RosterPlan, crew_pattern: Draft, crew_plan: RosterPlan,
+                   offset_days: int) -> RosterPlan:
+    """A crew's plan with the light boxes of ``plan`` (which followed the average worker's simulated clock
+    on ``draft``) carried to the same night of the pattern: crew day i works draft day i + offset, so it
+    gets that night's box at the same time into the shift."""
+    source_days, crew_days = roster_days(roster, draft), roster_days(roster, crew_pattern)
+    by_day = {}
+    for window in plan.bright:
+        if window.source != "light box":
+            continue
+        day = next((d for d in source_days if d.work is not None and d.work[0] <= window.start < d.work[1]), None)
+        if day is not None:
+            by_day[day.index] = (window.start - day.work[0], window.end - window.start, window.lux)
+    period_days = len(draft.pattern)
+    boxes = []
+    for day in crew_days:
+        if day.work is None:
+            continue
+        source = day.index + offset_days % period_days
+        while source >= len(source_days):
+            source -= period_days
+        if source in by_day:
+            into, length, lux = by_day[source]
+            start = min(day.work[0] + into, day.work[1] - length)
+            boxes.append(Window(start, start + length, lux, "light box"))
+    others = tuple(w for w in crew_plan.bright if w.source != "light box")
+    return replace(crew_plan, bright=tuple(sorted(others + tuple(boxes), key=lambda w: w.start)))
+
+
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
     """Where CBTmin belongs for the main sleep nearest it (naps left out): that sleep's wake less the
     habitual wake-to-CBTmin gap, i.e. where the habitual sleep holds it."""
@@ -239,12 +268,15 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         ``day_views`` of the chosen draft's plan for the average worker.
     """
     plan = chosen.best.plan
-    settings = Settings(**dict(plan.settings))
+    values = dict(plan.settings)
+    settings = Settings(**{k: v for k, v in values.items() if k in Settings.__dataclass_fields__})
     crews = roster.crews or (None,)
     groups = {}
     for crew in crews:
         draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
         crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
+        if crew_plan is not plan and "box_lead_h" in values:   # a box that tracked the clock: carry it over
+            crew_plan = _carried_boxes(roster, chosen.draft, plan, draft, crew_plan, crew.offset_days)
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
                                                                  crew.name if crew else None))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
