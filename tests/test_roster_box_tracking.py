@@ -56,3 +56,23 @@ def test_every_box_ends_before_that_nights_simulated_cbtmin(cranes):
     # the boxes move later across a run of nights as the clock delays
     starts = [w.start for w in boxes[:4]]
     assert starts[-1] - starts[0] >= timedelta(hours=1)
+
+
+def test_every_crew_calendar_gets_the_tracked_boxes_inside_its_own_night_shifts():
+    # the tracked boxes of the average worker carried to each crew's rotation (same night of the pattern)
+    from planner.rosters.export import draft_views
+    from planner.rosters.model import crew_draft
+    from planner.rosters.search import plan_roster
+    from planner.rosters.views import document_from_roster
+
+    roster, info = load_roster(builtin_roster_paths()["harbour-cranes"])
+    result = plan_roster(roster, load_model("forger1999"))
+    chosen = next(d for d in result.drafts if d.draft.name == "slow 4-4-4-4")
+    assert "box_lead_h" in dict(chosen.best.plan.settings)
+    document = document_from_roster(roster, info, result, chosen, draft_views(chosen))
+    written = sum(w.source == "light box" for w in chosen.best.plan.bright)
+    for crew in roster.crews:
+        nights = [d.work for d in roster_days(roster, crew_draft(chosen.draft, crew)) if d.kind == "night"]
+        boxes = [e for e in document.events if e.key.startswith(f"{crew.name}/") and e.source == "light box"]
+        assert len(boxes) == written
+        assert all(any(a <= e.start and e.end <= b for a, b in nights) for e in boxes)
