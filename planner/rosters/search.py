@@ -861,6 +861,18 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
 ROBUST_SEARCH_WORKERS = 32
 
 
+#: The robust search scores every candidate over its population, so it tries the full-adaptation box
+#: on a coarser lattice [h] and without a nightly drift (the average worker's tracked plan is among its
+#: candidates; a cost limit of this planner).
+ROBUST_BOX_LATTICE_H = 2.0
+
+
+def _coarse(strategy: str, settings: Settings) -> bool:
+    if strategy != "nights":
+        return True
+    return settings.box_drift_h == 0.0 and settings.box_offset_h % ROBUST_BOX_LATTICE_H == 0.0
+
+
 def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[Strategy], average: StrategyOutcome,
                  population: Population, states: np.ndarray) -> RobustChoice:
     """Score every candidate plan over ``population`` in one batch; keep the lowest mean score.
@@ -870,7 +882,8 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
     """
     roster = evaluator.roster
     candidates = [average.plan] + [plan_for(roster, draft, name, settings)
-                                   for name in strategies for settings in candidate_settings(roster, name)]
+                                   for name in strategies for settings in candidate_settings(roster, name)
+                                   if _coarse(name, settings)]
     start, end = period(roster, draft)
     schedules = [roster_schedule(roster, draft, plan) for plan in candidates]
     result = simulate_population(population, schedules, states, start, end, step_minutes=SEARCH_STEP_MINUTES)
