@@ -382,6 +382,8 @@ class RosterRequest:
     models: tuple[str, ...] = ()
     group: str | None = None
     command: str = "roster"
+    #: Refuse drafts that break the working-time rules instead of ranking them last.
+    strict: bool = False
 
 
 @dataclass(frozen=True)
@@ -443,7 +445,7 @@ def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None
         _report(progress, label, done, total)
 
     result = search_roster(roster, model, request.strategy, workers=request.workers, seed=request.seed,
-                           robust=request.robust, progress=searched)
+                           robust=request.robust, strict=request.strict, progress=searched)
     chosen = roster_export.pick_draft(result, request.draft)
     ensemble = None
     if request.models:

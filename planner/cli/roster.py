@@ -90,8 +90,9 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
                              "; no plan: the same draft without light measures, average worker."), caption_justify="left")
-    for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day"):
-        ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
+    score_header = (escape(f"score h/wk, median [p10–p90] of {workers}") if workers else "score h/wk, average worker")
+    for header in ("#", "draft", "rules", "strategy", score_header, "no plan", "worst day"):
+        ranking.add_column(header, no_wrap=header not in ("draft", "worst day", score_header))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
                            "sleep outside the biological night (not scored); nights adapt: mean days from the first night "
@@ -105,7 +106,9 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         worst = int(m.worst_day[0])
         unadapted, runs = unadapted_runs(m, "night")
         adapt = mean_days(m, "night")
-        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], score_text(d),
+        rules = "ok" if d.conforms else f"[yellow]{len(d.breaches)} broken[/yellow]"
+        ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", rules, SHORT_NAMES[d.best_strategy],
+                        score_text(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
                         f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
@@ -115,6 +118,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     console.print(ranking)
     for d in result.drafts:
         console.print(f"  [dim]{escape(d.draft.name)}: {escape(pattern_text(d.draft))} ×{d.draft.cycles}[/dim]")
+    _print_breaches(console, result.drafts)
     console.print(parts)
     console.print(f"[bold]Ranking:[/bold] {escape(result.reason)}")
 
@@ -124,7 +128,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     for name, outcome in list(chosen.strategies.items()) + [("none", chosen.baseline)]:
         label = f"[bold]{SHORT_NAMES[name]}[/bold] ✓" if name == chosen.chosen else SHORT_NAMES[name]
         strategies.add_row(label, f"{outcome.score:.1f}", escape(describe_settings(outcome.plan)))
-    console.print(Panel(strategies, title=f"Strategies for {escape(chosen.draft.name)} (score h/wk)",
+    console.print(Panel(strategies, title=f"Strategies for {escape(chosen.draft.name)} (score h/wk, average worker)",
                         title_align="left"))
 
     if chosen.robust is not None:
@@ -180,6 +184,20 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
     print_cautions(console, cautions_for(SHIFT_CAUTIONS), planned.models_used)
 
 
+def _print_breaches(console: Console, drafts: list[DraftResult]) -> None:
+    """Working-time rules each draft breaks, with the days, under the ranking."""
+    for d in drafts:
+        if d.conforms:
+            continue
+        console.print(f"  [bold yellow]{escape(d.draft.name)} breaks working-time rules[/bold yellow] "
+                      f"({len(d.breaches)}); ranked after every conforming draft:")
+        for breach in d.breaches[:6]:
+            crew = f"crew {escape(breach.crew)}: " if breach.crew else ""
+            console.print(f"    {crew}{escape(breach.message)} [dim]({escape(breach.source)})[/dim]")
+        if len(d.breaches) > 6:
+            console.print(f"    and {len(d.breaches) - 6} more (--json lists all)")
+
+
 def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensemble: RosterEnsemble) -> None:
     table = Table(box=box.SIMPLE_HEAD)
     for header in ("model", "score h/wk", "night runs unadapted"):
@@ -188,7 +206,8 @@ def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensem
         unadapted, runs = unadapted_runs(member.metrics, "night")
         table.add_row(escape(member.model.id), f"{member.metrics.score[0]:.1f}",
                       f"{unadapted} of {runs}" if runs else NONE_TEXT)
-    console.print(Panel(table, title=f"The plan for {escape(chosen.draft.name)} under each model", title_align="left"))
+    console.print(Panel(table, title=f"The plan for {escape(chosen.draft.name)} under each model (average worker)",
+                        title_align="left"))
     low, high = ensemble.score_range
     if ensemble.disagree_days:
         dates = ", ".join(chosen.days[d].date.strftime("%d %b") for d in ensemble.disagree_days[:8])
@@ -244,10 +263,13 @@ def roster_command(
     group: GroupOption = None,
     alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
     paper: PaperOption = "A4",
+    strict: Annotated[bool, typer.Option(
+        "--strict", help=("Refuse drafts that break the working-time rules (the file's [rules]) instead of ranking "
+                          "them last."))] = False,
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
-                                    model_list(models_list), group)
+                                    model_list(models_list), group, strict=strict)
     run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group,
                                             alarm_kinds(alarm_for), paper))
 

@@ -16,6 +16,7 @@ from rich.panel import Panel
 from rich.table import Table
 
 from planner import service
+from planner.cli.agenda import AGENDA_BELOW_COLUMNS, print_agenda, print_comparison_lines
 from planner.cli.app import app
 from planner.cli.common import (
     NONE_TEXT,
@@ -51,7 +52,7 @@ from planner.plans.entries import clock, lux_text
 from planner.plans.files import PlanFiles, write_plan_files
 from planner.plans.ics import DEFAULT_ALARM_MINUTES
 from planner.trips.evidence import StartingPhase
-from planner.trips.model import Trip
+from planner.trips.model import Trip, sleep_setting
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo
 from planner.trips.search import REENTRAINMENT_TOLERANCE_H, TripPlanResult
@@ -108,6 +109,11 @@ def _span_cell(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
     return f"{_clock_cell(trip, a, row_zone)}–{_clock_cell(trip, b, row_zone)}"
 
 
+def _sleep_cell(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
+    setting = sleep_setting(trip, a, b)
+    return _span_cell(trip, a, b, row_zone) + ("" if setting == "bed" else f"\n{setting}")
+
+
 def _window_cell(trip: Trip, window: Window, row_zone: str) -> str:
     text = f"{_span_cell(trip, window.start, window.end, row_zone)} {window.minutes:.0f} min"
     if window.source == "dark glasses":
@@ -136,7 +142,7 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                            "the minimum moved past midnight that day. vs target: CBTmin against the entrained "
                            f"CBTmin {'of the place the day aims at' if named else 'at ' + aim}; on target: within "
                            f"{REENTRAINMENT_TOLERANCE_H:g} h; ✓ marks only the recommended plan."))
-    for header in ("day", "clock", "sleep", "bright light", "avoid light", "CBTmin", f"vs {aim}"):
+    for header in ("day", "clock", "sleep", "bright light", "light-avoidance", "CBTmin", f"vs {aim}"):
         table.add_column(header, no_wrap=header in ("day", "clock", "CBTmin"), overflow="fold")
     for view in views:
         day = view.day
@@ -150,7 +156,7 @@ def _day_table(trip: Trip, views: list[DayView], title: str) -> Table:
                 clock = f"{row_zone}\n→ {zone_label(end)}"
             last = (day.end - timedelta(minutes=1)).astimezone(day.end_place.zone).strftime("%a %d %b")
             date_text += f"\n→ {last}" if last != date_text else ""
-        sleep = "\n".join(_span_cell(trip, a, b, row_zone) for a, b in view.sleep) or NONE_TEXT
+        sleep = "\n".join(_sleep_cell(trip, a, b, row_zone) for a, b in view.sleep) or NONE_TEXT
         bright = "\n".join(_window_cell(trip, w, row_zone) for w in view.bright) or NONE_TEXT
         avoid = "\n".join(_window_cell(trip, w, row_zone) for w in view.avoid) or NONE_TEXT
         cbtmin = _clock_cell(trip, view.cbtmin, row_zone) if view.cbtmin is not None else NONE_TEXT
@@ -163,7 +169,10 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
                 views: list[DayView]) -> None:
     change = clock_change_h(trip)
     way = "east" if change > 0 else "west"
+    narrow = console.width < AGENDA_BELOW_COLUMNS
     console.print(f"[bold]{escape(info.name)}[/bold]")
+    if narrow:   # the recommendation and its reason first; the agenda follows
+        _print_recommendation(console, plan)
     if info.description:
         console.print(escape(info.description))
     route = " → ".join([escape(trip.home.name)] + [escape(f.destination.name) for f in trip.flights])
@@ -173,6 +182,11 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
              ("model", escape(model.id))]
     print_facts(console, None, facts)
 
+    if narrow:
+        print_agenda(console, trip, views, f"Day-by-day plan: {escape(strategy_name(plan.strategy))}")
+        print_comparison_lines(console, plan)
+        console.print(f"  {plan.simulated:,} light schedules simulated")
+        return
     console.print(_day_table(trip, views, f"Day-by-day plan: {escape(strategy_name(plan.strategy))}"))
 
     comparison = Table(box=box.SIMPLE_HEAD)
@@ -183,15 +197,19 @@ def _print_plan(console: Console, trip: Trip, info: ScenarioInfo, model: ModelSp
     for name, outcome in rows:
         label = f"[bold]{strategy_name(name)}[/bold] ✓" if name == plan.strategy else strategy_name(name)
         comparison.add_row(label, settling(outcome), f"{outcome.box_minutes:.0f} min",
-                           "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives)))
+                           "yes" if outcome.near_low_amplitude else "no", escape(movement(outcome, plan.alternatives, name)))
     console.print(Panel(comparison, title="Advance, delay or no plan", title_align="left"))
+    _print_recommendation(console, plan)
+    console.print(f"  {plan.simulated:,} light schedules simulated")
+
+
+def _print_recommendation(console: Console, plan: TripPlanResult) -> None:
     console.print(f"[bold]Recommended:[/bold] {escape(strategy_name(plan.strategy))} — {escape(plan.reason)}")
     if plan.success:
         console.print(f"[bold]Result:[/bold] {escape(plan.message)}")
     else:
         console.print(f"[bold yellow]Not reached:[/bold yellow] {escape(plan.message)}. This is the best plan "
                       "found; consider more preparation days, more light, or a longer stay.")
-    console.print(f"  {plan.simulated:,} light schedules simulated")
 
 
 def run_trip(request: service.TripRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:

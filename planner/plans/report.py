@@ -279,6 +279,8 @@ def _event_cell(events: list[PlanEvent], row_zone: tzinfo) -> str:
             detail = f" ({event.minutes:.0f} min, {amount})"
         elif event.kind == "work":
             detail = f" ({event.source})"
+        elif event.kind == "sleep" and event.summary.startswith("Sleep "):   # "Sleep in flight", "Sleep on the layover"
+            detail = f" ({event.summary.removeprefix('Sleep ')})"
         parts.append(f"<span class='clock'>{_e(event.clock_text(row_zone))}</span>{_e(detail)}")
     return "<br>".join(parts) or "—"
 

@@ -16,6 +16,7 @@ from planner.engine.population import DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plans.entries import citation_entry, clock, model_entry, number, hours, whole_minutes, window_entry
 from planner.rosters.model import Roster
+from planner.rosters.rules import RULE_SOURCES
 from planner.rosters.scenario import OFF, RosterInfo
 from planner.rosters.search import (
     ENSEMBLE_TOLERANCE_H,
@@ -26,6 +27,7 @@ from planner.rosters.search import (
     RosterResult,
     StrategyOutcome,
     describe_settings,
+    whose_score,
 )
 from planner.rosters.views import RosterDayView, chart_legend, day_views, text_chart
 
@@ -194,11 +196,18 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
             "days": len(d.days),
             "chosen_strategy": d.best_strategy,
             "rank_score_h_per_week": number(d.rank_score),
+            "rank_score_of": whose_score(d),
             "plan": metrics_entry(roster, d, d.best),
             "strategies": {name: metrics_entry(roster, d, outcome) for name, outcome in d.strategies.items()},
             "no_plan": metrics_entry(roster, d, d.baseline),
             "population": population_entry(d, roster),
+            "working_time": {"conforms": d.conforms, "breaches": [b.as_dict() for b in d.breaches]},
         } for k, d in enumerate(result.drafts)],
+        "working_time_rules": {"daily_rest_h": roster.rules.daily_rest_h, "weekly_rest_h": roster.rules.weekly_rest_h,
+                               "weekly_rest_days": roster.rules.weekly_rest_days,
+                               "max_consecutive_nights": roster.rules.max_consecutive_nights,
+                               "max_consecutive_work_days": roster.rules.max_consecutive_work_days,
+                               "sources": dict(RULE_SOURCES)},
         "plan": {"draft": chosen.draft.name, "strategy": chosen.best_strategy},
         "days": [day_entry(roster, view) for view in views],
         "chart": {"legend": chart_legend(), "lines": text_chart(roster, views)},
@@ -211,7 +220,8 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
             "biological_night": "the window the habitual free-day sleep occupies relative to the entrained CBTmin, "
                                 "carried along with the current CBTmin",
             "adapted": "the day's CBTmin falls inside a sleep episode",
-            "rank_score_h_per_week": "population median score when people > 0, else the average worker's",
+            "rank_score_h_per_week": "population median score when people > 0, else the average worker's; "
+                                     "drafts breaking working-time rules rank after every conforming draft",
             "status": "0 when every draft has a finite score, 1 when some draft has no CBTmin on some days",
             "burden_h": "the day's share of the disruption score: hours of work within ±3 h of CBTmin plus hours "
                         "of biological night spent awake on that day, for the average worker",

@@ -175,6 +175,34 @@ class Countermeasures:
 
 
 @dataclass(frozen=True)
+class WorkingTimeRules:
+    """Working-time limits every draft is checked against (the roster file's ``[rules]``).
+
+    Attributes
+    ----------
+    daily_rest_h : float  [h]
+        Least rest between the end of one shift and the start of the next: 11 consecutive hours
+        per 24-hour period (Directive 2003/88/EC, Art. 3).
+    weekly_rest_h : float  [h]
+        Least uninterrupted rest per period of ``weekly_rest_days``, on top of the daily rest:
+        24 h plus the 11 h of Art. 3 (Directive 2003/88/EC, Art. 5).
+    weekly_rest_days : int  [days]
+        The period the weekly rest is counted over (Art. 5: seven days).
+    max_consecutive_nights : int
+        Longest run of night shifts: no more than 4 in a row for 12-h shifts (HSE 2006, HSG256
+        "Managing shift work", appendix 1; from memory).
+    max_consecutive_work_days : int
+        Longest run of working days: 5 to 7 at most (HSE 2006, HSG256, appendix 1; from memory).
+    """
+
+    daily_rest_h: float = 11.0
+    weekly_rest_h: float = 24.0
+    weekly_rest_days: int = 7
+    max_consecutive_nights: int = 4
+    max_consecutive_work_days: int = 7
+
+
+@dataclass(frozen=True)
 class Roster:
     """A site, its shifts, the workers' habits and the drafts to compare.
 
@@ -195,6 +223,8 @@ class Roster:
         Workers the roster is for (informative; population runs draw their own number).
     crews : tuple of Crew
         Staggered groups of workers (each its own calendar); empty for one group starting on day 0.
+    rules : WorkingTimeRules
+        The working-time limits the drafts are checked against.
     """
 
     name: str
@@ -211,6 +241,7 @@ class Roster:
     measures: Countermeasures = field(default_factory=Countermeasures)
     crew_size: int = 1
     crews: tuple[Crew, ...] = ()
+    rules: WorkingTimeRules = field(default_factory=WorkingTimeRules)
 
     def shift(self, code: str) -> ShiftType:
         return next(s for s in self.shifts if s.code == code)

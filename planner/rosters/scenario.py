@@ -54,6 +54,13 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     pattern = ["D", "D", "N", "N", "off", "off", "off", "off"]
     cycles = 3
 
+    [rules]                                # working-time limits every draft is checked against
+    daily_rest_h = 11                      # between shifts (Directive 2003/88/EC, Art. 3)
+    weekly_rest_h = 24                     # plus the daily rest, per period (Art. 5)
+    weekly_rest_days = 7
+    max_consecutive_nights = 4
+    max_consecutive_work_days = 7
+
     [[crews]]                              # optional staggered groups, one calendar each
     name = "A"
     offset_days = 0                        # days into the pattern the crew starts
@@ -73,7 +80,7 @@ from pydantic import Field, field_validator
 
 from planner import tomlfile
 from planner.engine.markers import HOURS_PER_DAY
-from planner.rosters.model import Countermeasures, Crew, Draft, Roster, ShiftType
+from planner.rosters.model import Countermeasures, Crew, Draft, Roster, ShiftType, WorkingTimeRules
 from planner.scenariofile import (
     DEFAULT_MODEL,
     PlaceEntry,
@@ -133,6 +140,14 @@ class CountermeasuresEntry(StrictEntry):
     daylight_max_minutes: float = Field(60.0, ge=0.0, le=24 * 60, allow_inf_nan=False)
 
 
+class RulesEntry(StrictEntry):
+    daily_rest_h: float = Field(11.0, ge=0.0, le=24.0, allow_inf_nan=False)
+    weekly_rest_h: float = Field(24.0, ge=0.0, le=168.0, allow_inf_nan=False)
+    weekly_rest_days: int = Field(7, ge=1, le=28)
+    max_consecutive_nights: int = Field(4, ge=1, le=60)
+    max_consecutive_work_days: int = Field(7, ge=1, le=60)
+
+
 class CrewEntry(StrictEntry):
     name: str = Field(min_length=1, max_length=40)
     offset_days: int = Field(0, ge=0, le=365)
@@ -165,6 +180,7 @@ class RosterFile(StrictEntry):
     countermeasures: CountermeasuresEntry = Field(default_factory=CountermeasuresEntry)
     drafts: list[DraftEntry] = Field(min_length=1)
     crews: list[CrewEntry] = Field(default_factory=list)
+    rules: RulesEntry = Field(default_factory=RulesEntry)
 
 
 @dataclass(frozen=True)
@@ -279,5 +295,6 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
                     commute_minutes=spec.workers.commute_minutes, sleep_hours=spec.workers.sleep_hours,
                     work_lux=light.work_lux, indoor_lux=light.indoor_lux, daylight_lux=light.daylight_lux,
                     night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count,
-                    crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews))
+                    crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews),
+                    rules=WorkingTimeRules(**spec.rules.model_dump()))
     return roster, RosterInfo(spec.name, spec.description, model, str(path))

@@ -82,6 +82,7 @@ from planner.rosters.model import (
     roster_schedule,
     sunlit,
 )
+from planner.rosters.rules import breaches_text, check_draft
 from planner.world.light import LightOptions, Window, hours_between
 from planner.intervals import count_text
 
@@ -124,9 +125,22 @@ MIN_SLEEP_H = 1.0
 #: Bedtime on free days between nights in the compromise strategy, searched around 03:00
 #: (Smith, Fogg & Eastman 2009, Sleep 32:1481: sleep 03:00-12:00 on days off; clock time from memory).
 COMPROMISE_FREE_BEDTIMES_H = (2.0, 3.0, 4.0)
-#: Light-box start after the shift starts [h], searched (bright light early in the shift delays:
-#: it falls before CBTmin, Khalsa et al. 2003, J Physiol 549:945).
+#: Light-box start after the shift starts [h], searched by the compromise strategy (bright light early
+#: in the shift delays: it falls before CBTmin, Khalsa et al. 2003, J Physiol 549:945).
 BOX_OFFSETS_H = (0.0, 1.0, 2.0, 3.0)
+#: Step of the light-box start searched over the whole night shift by the full-adaptation strategy [h]
+#: (a search lattice of this planner).
+BOX_OFFSET_STEP_H = 1.0
+#: How much later the light box moves on each further night of a run [h], searched: a clock that
+#: delays moves its delaying lobe later night by night (Khalsa et al. 2003, J Physiol 549:945), so
+#: the box follows it (Smith & Eastman 2008, Sleep 31:1639 moved light and sleep later across nights).
+BOX_DRIFTS_H = (0.0, 1.0)
+#: Ends of the light box before each night's simulated CBTmin, tried when the box tracks the clock [h]:
+#: light in the hours just before CBTmin delays most (Khalsa et al. 2003, J Physiol 549:945, Fig. 2).
+BOX_LEADS_H = (0.5, 1.5, 2.5, 3.5)
+#: Rounds of moving the box to the CBTmin of the plan's own simulation (a design choice; two rounds
+#: settle it on the demos, measured here).
+BOX_TRACK_ROUNDS = 3
 #: Outdoor light after waking as a brake, or on the way home for the day-oriented strategy [min], searched.
 OUTDOOR_MINUTES = (0.0, 30.0, 60.0)
 
@@ -141,6 +155,7 @@ class Settings:
     box_fraction: float = 1.0
     free_bedtime_h: float = 3.0
     outdoor_minutes: float = 0.0
+    box_drift_h: float = 0.0
 
     def items(self, strategy: str) -> tuple[tuple[str, float], ...]:
         """The settings ``strategy`` uses, as (name, value) pairs."""
@@ -148,7 +163,7 @@ class Settings:
 
 
 #: Which settings each strategy uses.
-SETTINGS_USED = {"nights": ("box_offset_h", "box_fraction"),
+SETTINGS_USED = {"nights": ("box_offset_h", "box_fraction", "box_drift_h"),
                  "compromise": ("box_offset_h", "box_fraction", "free_bedtime_h", "outdoor_minutes"),
                  "day": ("outdoor_minutes",)}
 
@@ -158,8 +173,12 @@ def describe_settings(plan: RosterPlan) -> str:
     values = dict(plan.settings)
     parts = []
     boxes = [w for w in plan.bright if w.source == "light box"]
-    if "box_offset_h" in values and boxes:
-        parts.append(f"light box from {values['box_offset_h']:g} h into each night shift, "
+    if "box_lead_h" in values and boxes:
+        parts.append(f"light box {plan.box_minutes / len(boxes):.0f} min, moved each night to end "
+                     f"{values['box_lead_h']:g} h before that night's simulated CBTmin")
+    elif "box_offset_h" in values and boxes:
+        drift = f", {values['box_drift_h']:g} h later each further night" if values.get("box_drift_h") else ""
+        parts.append(f"light box from {values['box_offset_h']:g} h into each night shift{drift}, "
                      f"{plan.box_minutes / len(boxes):.0f} min")
     if "free_bedtime_h" in values:
         hours, minutes = divmod(round(values["free_bedtime_h"] * 60), 60)
@@ -282,7 +301,9 @@ def plan_for(roster: Roster, draft: Draft, strategy: Strategy | Literal["none"],
             home = (day.work[1], day.work[1] + roster.commute)
             if strategy in ("nights", "compromise") and measures.light_box and measures.box_max_minutes > 0:
                 cap_h = min(measures.box_max_minutes / 60.0, day.shift.hours) * settings.box_fraction
-                start = day.work[0] + timedelta(hours=min(settings.box_offset_h, max(day.shift.hours - cap_h, 0.0)))
+                nights_before = next((k for k in range(i + 1) if i - k - 1 < 0 or days[i - k - 1].kind != "night"), 0)
+                offset = settings.box_offset_h + settings.box_drift_h * nights_before
+                start = day.work[0] + timedelta(hours=min(offset, max(day.shift.hours - cap_h, 0.0)))
                 end = min(start + timedelta(hours=cap_h), day.work[1])
                 if end > start:
                     bright.append(Window(start, end, measures.box_lux, "light box"))
@@ -342,7 +363,12 @@ def candidate_settings(roster: Roster, strategy: Strategy) -> list[Settings]:
     fractions = (1.0, 0.5) if box else (1.0,)
     outdoor = OUTDOOR_MINUTES if measures.daylight else (0.0,)
     if strategy == "nights":
-        return [Settings(o, f) for o, f in itertools.product(offsets, fractions)]
+        if box:   # the whole night shift, on a lattice
+            longest = max((s.hours for s in roster.shifts if s.kind == "night"), default=0.0)
+            shortest_box = min(measures.box_max_minutes / 60.0, longest) * min(fractions)
+            offsets = tuple(np.arange(0.0, max(longest - shortest_box, 0.0) + 1e-9, BOX_OFFSET_STEP_H))
+        drifts = BOX_DRIFTS_H if box else (0.0,)
+        return [Settings(float(o), f, box_drift_h=d) for o, f, d in itertools.product(offsets, fractions, drifts)]
     if strategy == "compromise":
         return [Settings(o, f, bedtime, m) for o, f, bedtime, m in
                 itertools.product(offsets[:3], fractions, COMPROMISE_FREE_BEDTIMES_H, outdoor)]
@@ -668,6 +694,12 @@ class DraftResult:
     chosen: str
     population: PopulationSummary | None
     robust: RobustChoice | None = None
+    #: Working-time rules the draft breaks (:mod:`planner.rosters.rules`); empty when it conforms.
+    breaches: tuple = ()
+
+    @property
+    def conforms(self) -> bool:
+        return not self.breaches
 
     @property
     def best(self) -> StrategyOutcome:
@@ -746,8 +778,61 @@ def _floats(values: dict) -> dict:
     return {key: float(value) for key, value in values.items()}
 
 
+def _boxes_before(roster: Roster, draft: Draft, plan: RosterPlan, cbtmin_h: np.ndarray, lead_h: float) -> RosterPlan:
+    """``plan`` with each night shift's light box moved to end ``lead_h`` before that night's CBTmin
+    (``cbtmin_h``: the day's CBTmin [h since the draft's epoch], NaN keeps the box where it is), within the shift."""
+    days = roster_days(roster, draft)
+    epoch = period(roster, draft)[0]
+    moved = []
+    for window in plan.bright:
+        day = next((d for d in days if d.kind == "night" and d.work[0] <= window.start < d.work[1]), None)
+        if window.source != "light box" or day is None or not math.isfinite(cbtmin_h[day.index]):
+            moved.append(window)
+            continue
+        length = window.end - window.start
+        end = epoch + timedelta(hours=float(cbtmin_h[day.index]) - lead_h)
+        end = min(max(end, day.work[0] + length), day.work[1])
+        moved.append(Window(end - length, end, window.lux, window.source))
+    settings = tuple((k, v) for k, v in plan.settings if k not in ("box_offset_h", "box_drift_h"))
+    return replace(plan, bright=tuple(moved), settings=settings + (("box_lead_h", lead_h),))
+
+
+def _boxes_end_by_cbtmin(roster: Roster, draft: Draft, plan: RosterPlan, cbtmin_h: np.ndarray, epoch: datetime) -> bool:
+    """Whether every night's light box ends by that night's simulated CBTmin (unknown CBTmin: allowed)."""
+    days = roster_days(roster, draft)
+    for window in plan.bright:
+        day = next((d for d in days if d.kind == "night" and d.work[0] <= window.start < d.work[1]), None)
+        if window.source != "light box" or day is None or not math.isfinite(cbtmin_h[day.index]):
+            continue
+        if window.end > epoch + timedelta(hours=float(cbtmin_h[day.index])):
+            return False
+    return True
+
+
+def track_box(evaluator: RosterEvaluator, draft: Draft, plan: RosterPlan, score: float) -> tuple[RosterPlan, int]:
+    """Let the light box of a full-adaptation plan follow the clock: each night's box ends a searched
+    lead before that night's simulated CBTmin, and the plan is simulated again with the boxes moved,
+    ``BOX_TRACK_ROUNDS`` times; the plan with the lowest score is kept (``plan`` itself if none beats it).
+    Returns the plan and the number of plans tried."""
+    roster = evaluator.roster
+    if not any(w.source == "light box" for w in plan.bright):
+        return plan, 0
+    best_plan, best_score, tried = plan, score, 0
+    cbtmin = evaluator.evaluate(draft, [plan]).cbtmin[0]
+    for _ in range(BOX_TRACK_ROUNDS):
+        variants = [_boxes_before(roster, draft, best_plan, cbtmin, lead) for lead in BOX_LEADS_H]
+        metrics = evaluator.evaluate(draft, variants)
+        tried += len(variants)
+        pick = int(np.argmin(metrics.score))
+        if metrics.score[pick] >= best_score - 1e-9:
+            break
+        best_plan, best_score, cbtmin = variants[pick], float(metrics.score[pick]), metrics.cbtmin[pick]
+    return best_plan, tried
+
+
 def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[Strategy]) -> tuple[StrategyOutcome, dict]:
-    """Search each strategy's settings in one batch; final plans at the validated step."""
+    """Search each strategy's settings in one batch (the full-adaptation box then tracks the clock,
+    :func:`track_box`); final plans at the validated step."""
     roster = evaluator.roster
     candidates = [(name, settings, plan_for(roster, draft, name, settings))
                   for name in strategies for settings in candidate_settings(roster, name)]
@@ -756,10 +841,22 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
     scores = searched.score[1:]
     tried = {name: [k for k, c in enumerate(candidates) if c[0] == name] for name in strategies}
     # The first of equal scores wins (candidate order), as the search has always kept it.
-    best = {name: candidates[min(ks, key=lambda k: (scores[k], k))][2] for name, ks in tried.items()}
+    if "nights" in tried:
+        # full adaptation delays the clock: keep to boxes in the delaying lobe, ending by each night's
+        # simulated CBTmin (Khalsa et al. 2003, J Physiol 549:945), when any candidate does
+        epoch = period(roster, draft)[0]
+        delaying = [k for k in tried["nights"]
+                    if _boxes_end_by_cbtmin(roster, draft, candidates[k][2], searched.cbtmin[1 + k], epoch)]
+        tried["nights"] = delaying or tried["nights"]
+    picked = {name: min(ks, key=lambda k: (scores[k], k)) for name, ks in tried.items()}
+    best = {name: candidates[k][2] for name, k in picked.items()}
+    counts = {name: sum(c[0] == name for c in candidates) for name in strategies}
+    if "nights" in best:
+        best["nights"], extra = track_box(evaluator, draft, best["nights"], float(scores[picked["nights"]]))
+        counts["nights"] += extra
     metrics = evaluator.evaluate(draft, [baseline_plan] + [best[name] for name in strategies], final=True)
     baseline = StrategyOutcome("none", baseline_plan, metrics.column(0), 1)
-    outcomes = {name: StrategyOutcome(name, best[name], metrics.column(k + 1), len(tried[name]))
+    outcomes = {name: StrategyOutcome(name, best[name], metrics.column(k + 1), counts[name])
                 for k, name in enumerate(strategies)}
     return baseline, outcomes
 
@@ -767,6 +864,18 @@ def plan_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[St
 #: People in the robust search population (a design choice of this planner: enough to rank plans by
 #: their mean score, about 1/sqrt(32) of the spread, at a cost of seconds per draft).
 ROBUST_SEARCH_WORKERS = 32
+
+
+#: The robust search scores every candidate over its population, so it tries the full-adaptation box
+#: on a coarser lattice [h] and without a nightly drift (the average worker's tracked plan is among its
+#: candidates; a cost limit of this planner).
+ROBUST_BOX_LATTICE_H = 2.0
+
+
+def _coarse(strategy: str, settings: Settings) -> bool:
+    if strategy != "nights":
+        return True
+    return settings.box_drift_h == 0.0 and settings.box_offset_h % ROBUST_BOX_LATTICE_H == 0.0
 
 
 def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[Strategy], average: StrategyOutcome,
@@ -778,7 +887,8 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
     """
     roster = evaluator.roster
     candidates = [average.plan] + [plan_for(roster, draft, name, settings)
-                                   for name in strategies for settings in candidate_settings(roster, name)]
+                                   for name in strategies for settings in candidate_settings(roster, name)
+                                   if _coarse(name, settings)]
     start, end = period(roster, draft)
     schedules = [roster_schedule(roster, draft, plan) for plan in candidates]
     result = simulate_population(population, schedules, states, start, end, step_minutes=SEARCH_STEP_MINUTES)
@@ -798,7 +908,7 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
 
 
 def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | Strategy = "auto", *,
-                workers: int = 0, seed: int = 0, robust: bool = False,
+                workers: int = 0, seed: int = 0, robust: bool = False, strict: bool = False,
                 sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN,
                 progress: Callable[[int, int, str], None] | None = None) -> RosterResult:
     """Plan every draft of a roster and rank the drafts.
@@ -819,6 +929,9 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     robust : bool
         Also score every candidate over :data:`ROBUST_SEARCH_WORKERS` drawn workers (intrinsic period
         and light sensitivity) and recommend the plan with the lowest mean score (:func:`robust_draft`).
+    strict : bool
+        Refuse (InputError) a roster with any draft breaking the working-time rules
+        (:mod:`planner.rosters.rules`); without it such drafts are planned and ranked last.
     progress : callable(done, total, label), optional
         Called after each step of work (the CLI draws a progress bar with it).
     """
@@ -836,6 +949,13 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
         if progress is not None:
             progress(done, steps, label)
 
+    # the working-time rules come before any circadian score
+    breaches = {draft.name: check_draft(roster, draft) for draft in roster.drafts}
+    if strict and any(breaches.values()):
+        broken = [name for name, found in breaches.items() if found]
+        first = breaches[broken[0]]
+        raise InputError(f"{len(broken)} draft(s) break the working-time rules and --strict refuses them: "
+                         f'"{broken[0]}": {breaches_text(first, 1)}', field="drafts")
     evaluator = RosterEvaluator(roster, model)
     population = people_state = None
     if workers:
@@ -863,9 +983,10 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
             summary = _summarise_population(roster, draft, metrics, population, period(roster, draft)[0])
             tick(f"simulated {population.size} workers on {draft.name}")
         results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary,
-                                   robust_choice))
+                                   robust_choice, tuple(breaches[draft.name])))
     finite = all(math.isfinite(r.rank_score) for r in results)
-    ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
+    # every draft that keeps the working-time rules ranks before every draft that breaks them
+    ranked = sorted(results, key=lambda r: (not r.conforms, r.rank_score if math.isfinite(r.rank_score) else math.inf,
                                             roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
     message = (f"{count_text(len(ranked), 'draft')} planned; least disruptive: {ranked[0].draft.name}" if finite else
@@ -875,15 +996,59 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
 
 
 def ranking_reason(ranked: Sequence[DraftResult]) -> str:
-    """Plain words for why the first draft ranks first."""
+    """Plain words for why the first draft ranks first (and which drafts break working-time rules)."""
+    breaking = [r for r in ranked if not r.conforms]
+    if breaking and len(breaking) == len(ranked):
+        prefix = "every draft breaks working-time rules (see each draft); among them "
+    elif breaking:
+        prefix = (f"{', '.join(r.draft.name for r in breaking)} break{'s' if len(breaking) == 1 else ''} "
+                  "working-time rules and rank last whatever their scores; among the drafts keeping them, ")
+    else:
+        prefix = ""
+    return prefix + _score_reason(ranked)
+
+
+def whose_score(result: DraftResult) -> str:
+    """Whose score a draft is ranked by, e.g. "the average worker" or "the median of 40 workers"."""
+    if result.population is not None:
+        return f"the median of {result.population.size} workers"
+    return "the average worker"
+
+
+def within_spread(a: DraftResult, b: DraftResult) -> bool | None:
+    """Whether two drafts' population scores overlap (each median inside the other's 10th–90th
+    percentile range); None without populations."""
+    if a.population is None or b.population is None:
+        return None
+    sa, sb = a.population.score, b.population.score
+    return sa["p10"] <= sb["median"] <= sa["p90"] or sb["p10"] <= sa["median"] <= sb["p90"]
+
+
+def _score_reason(ranked: Sequence[DraftResult]) -> str:
     first = ranked[0]
-    what = "median worker" if first.population is not None else "average worker"
-    text = (f"{first.draft.name} with the plan that {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
-            f"week of work in the circadian low or biological night spent awake for the {what}")
+    text = (f"{first.draft.name} with the plan that {STRATEGY_NAMES[first.best_strategy]} disrupts least: "
+            f"{first.rank_score:.1f} h per week of work in the circadian low or biological night spent awake for "
+            f"{whose_score(first)}")
+    if first.population is not None:
+        s = first.population.score
+        text += f" (10th–90th percentile {s['p10']:.1f}–{s['p90']:.1f} h)"
     if len(ranked) > 1:
         others = "; ".join(f"{r.draft.name} {r.rank_score:.1f} h ({STRATEGY_NAMES[r.best_strategy]})"
                            for r in ranked[1:])
         text += f", against {others}"
+        second = ranked[1]
+        close = within_spread(first, second)
+        gap = abs(second.rank_score - first.rank_score)
+        if close is None:
+            text += (f". The {gap:.1f} h/wk between the first two is for the average worker only; plan with "
+                     "--workers to see whether it exceeds the spread between workers")
+        elif close:
+            text += (f". {first.draft.name} and {second.draft.name} are within the population spread of each other "
+                     f"(each median inside the other's 10th–90th percentiles): the {gap:.1f} h/wk between them is "
+                     "smaller than the differences between workers")
+        else:
+            text += (f". The {gap:.1f} h/wk between {first.draft.name} and {second.draft.name} is larger than the "
+                     "spread between workers")
     return text
 
 

@@ -7,7 +7,7 @@ every number comes from :mod:`planner.rosters.search`.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timedelta, timezone
 
 import numpy as np
@@ -15,7 +15,7 @@ import numpy as np
 from planner.engine.population import DUFFY2011_CITATION
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section, stable_id
-from planner.rosters.model import Roster, RosterDay, RosterPlan, crew_draft, roster_days
+from planner.rosters.model import Draft, Roster, RosterDay, RosterPlan, crew_draft, roster_days
 from planner.rosters.search import (
     ANCHOR_SLEEP_H,
     SHORT_NAMES,
@@ -232,19 +232,60 @@ def crew_plans(roster: Roster, model, result, chosen) -> dict[str, CrewPlan]:
     reports and charts show every crew its own rows; {} for a roster without crews."""
     if not roster.crews:
         return {}
-    plan = chosen.best.plan
-    settings = Settings(**dict(plan.settings))
     evaluator = RosterEvaluator(roster, model, ref=result.reference)
     crews = {}
     for crew in roster.crews:
-        draft = crew_draft(chosen.draft, crew)
+        draft, crew_plan = crew_plan_of(roster, chosen, crew)
         aligned = crew.offset_days % len(chosen.draft.pattern) == 0
-        crew_plan = plan_for(roster, draft, plan.strategy, settings)
         metrics = evaluator.evaluate(draft, [crew_plan], final=True)
         days = roster_days(roster, draft)
         crews[crew.name] = CrewPlan(crew.name, draft, crew_plan, day_views(days, crew_plan, metrics, days[0].start),
                                     band_from_draft=aligned)
     return crews
+
+
+def _carried_boxes(roster: Roster, draft: Draft, plan: RosterPlan, crew_pattern: Draft, crew_plan: RosterPlan,
+                   offset_days: int) -> RosterPlan:
+    """A crew's plan with the light boxes of ``plan`` (which followed the average worker's simulated clock
+    on ``draft``) carried to the same night of the pattern: crew day i works draft day i + offset, so it
+    gets that night's box at the same time into the shift."""
+    source_days, crew_days = roster_days(roster, draft), roster_days(roster, crew_pattern)
+    by_day = {}
+    for window in plan.bright:
+        if window.source != "light box":
+            continue
+        day = next((d for d in source_days if d.work is not None and d.work[0] <= window.start < d.work[1]), None)
+        if day is not None:
+            by_day[day.index] = (window.start - day.work[0], window.end - window.start, window.lux)
+    period_days = len(draft.pattern)
+    boxes = []
+    for day in crew_days:
+        if day.work is None:
+            continue
+        source = day.index + offset_days % period_days
+        while source >= len(source_days):
+            source -= period_days
+        if source in by_day:
+            into, length, lux = by_day[source]
+            start = min(day.work[0] + into, day.work[1] - length)
+            boxes.append(Window(start, start + length, lux, "light box"))
+    others = tuple(w for w in crew_plan.bright if w.source != "light box")
+    return replace(crew_plan, bright=tuple(sorted(others + tuple(boxes), key=lambda w: w.start)))
+
+
+def crew_plan_of(roster: Roster, chosen, crew) -> tuple[Draft, RosterPlan]:
+    """The draft as ``crew`` works it and the chosen plan rebuilt on it with the same strategy and settings;
+    light boxes that tracked the average worker's simulated clock are carried to the same nights."""
+    plan = chosen.best.plan
+    draft = crew_draft(chosen.draft, crew)
+    if draft is chosen.draft:
+        return draft, plan
+    values = dict(plan.settings)
+    settings = Settings(**{k: v for k, v in values.items() if k in Settings.__dataclass_fields__})
+    crew_plan = plan_for(roster, draft, plan.strategy, settings)
+    if "box_lead_h" in values:
+        crew_plan = _carried_boxes(roster, chosen.draft, plan, draft, crew_plan, crew.offset_days)
+    return draft, crew_plan
 
 
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
@@ -276,15 +317,14 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         (one report section and chart per crew) and each crew's calendar.
     """
     plan = chosen.best.plan
-    settings = Settings(**dict(plan.settings))
     groups = {}
     for crew in roster.crews or (None,):
-        if crew is not None and crews and crew.name in crews:
+        if crew is None:
+            draft, crew_plan = chosen.draft, plan
+        elif crews and crew.name in crews:
             draft, crew_plan = crews[crew.name].draft, crews[crew.name].plan
         else:
-            draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
-            crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy,
-                                                                                   settings)
+            draft, crew_plan = crew_plan_of(roster, chosen, crew)
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
                                                                  crew.name if crew else None))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))

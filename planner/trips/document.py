@@ -7,7 +7,7 @@ from datetime import datetime, timedelta
 
 from planner.plans.cautions import TRIP_CAUTIONS, cautions_for
 from planner.plans.document import PRC_CITATION, UTC, DayRow, Period, PlanDocument, PlanEvent, stable_id
-from planner.trips.model import Trip
+from planner.trips.model import Trip, sleep_setting
 from planner.trips.scenario import ScenarioInfo
 from planner.trips.search import TripPlanResult
 from planner.trips.views import (
@@ -70,12 +70,23 @@ def _avoid_event(trip: Trip, view: DayView, window: Window, strategy: str) -> di
                 source=window.source, lux=None, transmission=float(window.lux))
 
 
-def _sleep_event(trip: Trip, view: DayView, strategy: str) -> dict:
+def _sleep_event(trip: Trip, view: DayView, strategy: str, start: datetime, end: datetime) -> dict:
     if strategy == "home":
         purpose = "Home sleep hours, kept while away, hold the body clock on home time."
     else:
         purpose = (f"Sleep in the dark at the planned hours, part of the {strategy_name(strategy)} plan toward "
                    f"{_target_words(view)}; closed eyes also keep light out at the wrong time.")
+    setting = sleep_setting(trip, start, end)
+    if setting == "in flight":
+        return dict(kind="sleep", summary="Sleep in flight",
+                    action="Eye mask on (it keeps the cabin light out), seat reclined, earplugs if you have them; "
+                           "skip the meal service if it falls in these hours.",
+                    purpose=purpose, source="sleep", lux=0.0, transmission=None)
+    if setting == "layover":
+        return dict(kind="sleep", summary="Sleep on the layover",
+                    action="Rest in a quiet, dark place (an airport hotel or rest area) with an eye mask; set an "
+                           "alarm for the connecting flight.", purpose=purpose, source="sleep", lux=0.0,
+                    transmission=None)
     return dict(kind="sleep", summary="Sleep", action="Lights out and eyes closed; keep the room dark.",
                 purpose=purpose, source="sleep", lux=0.0, transmission=None)
 
@@ -104,7 +115,7 @@ def _trip_events(trip: Trip, views: list[DayView], strategy: str) -> list[PlanEv
     events = []
     for view in views:
         day = view.day.local_date
-        items = [((a, b), _sleep_event(trip, view, strategy)) for a, b in _whole_sleeps(trip, view.sleep)]
+        items = [((a, b), _sleep_event(trip, view, strategy, a, b)) for a, b in _whole_sleeps(trip, view.sleep)]
         items += [((w.start, w.end), _bright_event(trip, view, w, strategy)) for w in view.bright]
         items += [((w.start, w.end), _avoid_event(trip, view, w, strategy)) for w in view.avoid]
         ordinals: dict[str, int] = {}
@@ -165,7 +176,7 @@ def _comparison(plan: TripPlanResult) -> tuple[list[dict], int]:
     table = [{"plan": strategy_name(name), "re-entrains": settling(outcome),
               "light box": f"{outcome.box_minutes:.0f} min",
               "near low amplitude": "yes" if outcome.near_low_amplitude else "no",
-              "body clock": movement(outcome, plan.alternatives)} for name, outcome in rows]
+              "body clock": movement(outcome, plan.alternatives, name)} for name, outcome in rows]
     recommended = [name for name, _ in rows].index(plan.strategy)
     return table, recommended
 

@@ -24,10 +24,10 @@ from planner.plans.entries import (
     window_entry,
 )
 from planner.trips.evidence import StartingPhase
-from planner.trips.model import Trip, trip_days
+from planner.trips.model import Trip, sleep_setting, trip_days
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, distribution_spec
 from planner.trips.scenario import ScenarioInfo
-from planner.trips.search import TripPlanResult
+from planner.trips.search import TripPlanResult, moved_as_named
 from planner.trips.views import DayView, clock_change_h, day_views, local, movement
 from planner.world.places import zone_name
 
@@ -47,11 +47,12 @@ def outcome_entry(result: Any, alternatives: dict) -> dict[str, Any]:
         "direction": outcome.direction,
         "net_phase_shift_h": phase_shift_h(outcome.net_shift_h),
         "max_error_while_away_h": number(outcome.max_away_error_h),
-        "movement": movement(outcome, alternatives),
+        "movement": movement(outcome, alternatives, getattr(result, "strategy", None)),
     }
     if hasattr(result, "outcome"):
         entry.update({"strategy": result.strategy, "refined": bool(result.refined),
-                      "required_shift_h": number(result.required_shift_h)})
+                      "required_shift_h": number(result.required_shift_h),
+                      "moved_as_named": moved_as_named(result)})
     return entry
 
 
@@ -68,7 +69,8 @@ def day_entry(trip: Trip, view: DayView) -> dict[str, Any]:
         "start": local_iso(trip, day.start),
         "end": local_iso(trip, day.end),
         "target_place": view.target_place.name,
-        "sleep": [{"start": local_iso(trip, a), "end": local_iso(trip, b)} for a, b in view.sleep],
+        "sleep": [{"start": local_iso(trip, a), "end": local_iso(trip, b), "setting": sleep_setting(trip, a, b)}
+                  for a, b in view.sleep],
         "bright_light": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.bright],
         "light_avoidance": [window_entry(w, lambda m: local_iso(trip, m)) for w in view.avoid],
         "cbtmin": local_iso(trip, view.cbtmin) if view.cbtmin is not None else None,

@@ -25,6 +25,7 @@ from planner.engine.entrainment import BASELINE_OUTDOOR_H, entrain, place_patter
 from planner.engine.markers import HOURS_PER_DAY
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
+from planner.intervals import free_segments
 from planner.world.light import (
     LightLayer,
     LightOptions,
@@ -42,6 +43,16 @@ UTC = timezone.utc
 
 #: Hours before departure by which the traveller is up (getting to the airport; common practice).
 WAKE_BEFORE_DEPARTURE_H = 2.0
+#: Hours after take-off and around landing without sleep when sleeping on a flight [h]
+#: (boarding, meals, landing; a planner's default, common practice).
+IN_FLIGHT_SETTLE_H = 1.0
+#: Longest planned time awake between two sleeps [h] unless a flight forces more: a whole day
+#: and night awake is where sleepiness and errors climb steeply (Dawson & Reid 1997, Nature
+#: 388:235: 24 h awake impairs performance like 0.1 % blood alcohol; from memory).
+MAX_WAKE_H = 24.0
+#: Shortest sleep opportunity planned on a flight or a layover [h] (one sleep cycle of about
+#: 90 min; common practice, no single source).
+MIN_TRAVEL_SLEEP_H = 1.5
 
 
 @dataclass(frozen=True)
@@ -215,7 +226,83 @@ def _habitual_sleep(trip: Trip, shifts_h: tuple[float, ...]) -> tuple[tuple[date
     return tuple(_fit_sleep_to_travel(trip, episodes))
 
 
+def sleep_spots(trip: Trip) -> list[tuple[datetime, datetime, str]]:
+    """Where sleep is possible while travelling: each flight from ``IN_FLIGHT_SETTLE_H`` after
+    take-off to as long before landing ("in flight"), and each stop between two flights shorter
+    than a day from as long after landing to ``WAKE_BEFORE_DEPARTURE_H`` before the next
+    take-off ("layover")."""
+    settle = timedelta(hours=IN_FLIGHT_SETTLE_H)
+    ordered = sorted(trip.flights, key=lambda f: f.depart)
+    spots = [(f.depart + settle, f.arrive - settle, "in flight") for f in ordered]
+    for before, after in zip(ordered[:-1], ordered[1:]):
+        if after.depart - before.arrive < timedelta(hours=HOURS_PER_DAY):
+            spots.append((before.arrive + settle, after.depart - timedelta(hours=WAKE_BEFORE_DEPARTURE_H), "layover"))
+    least = timedelta(hours=MIN_TRAVEL_SLEEP_H)
+    return sorted((a, b, where) for a, b, where in spots if b - a >= least)
+
+
+def sleep_setting(trip: Trip, start: datetime, end: datetime) -> Literal["in flight", "layover", "bed"]:
+    """Where a planned sleep happens: on a flight, on a layover between flights, or in a bed at a place."""
+    middle = start + (end - start) / 2
+    if where_at(trip, middle) is None:
+        return "in flight"
+    if any(a <= start and end <= b for a, b, where in sleep_spots(trip) if where == "layover"):
+        return "layover"
+    return "bed"
+
+
+def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list[tuple[datetime, datetime]]:
+    """Sleep on flights and layovers added to ``episodes`` (sorted, none overlapping travel).
+
+    First each travel spot (:func:`sleep_spots`) takes the part of it that falls in the night of
+    the place it is heading for, so the sleep lands where the new day will want it (the usual
+    advice to sleep on board when it is night at the destination).  Then every planned waking gap
+    longer than ``MAX_WAKE_H`` that holds a travel spot gets a nap there: as short as keeps both
+    parts of the gap within ``MAX_WAKE_H`` (``MIN_TRAVEL_SLEEP_H`` at least), placed to split the
+    gap as evenly as the spot allows, so that it breaks the long day without taking the place of
+    the night's sleep.
+    """
+    spots = sleep_spots(trip)
+    added = []
+    for a, b, _ in spots:
+        heading = next((f.destination for f in sorted(trip.flights, key=lambda f: f.depart) if f.arrive >= b),
+                       trip.flights[-1].destination)
+        first = a.astimezone(heading.zone).date() - timedelta(days=1)
+        for k in range(3):
+            bed, wake = night_of(heading, first + timedelta(days=k))
+            for lo, hi in free_segments(max(a, bed), min(b, wake), sorted(episodes + added)):
+                if hi - lo >= timedelta(hours=MIN_TRAVEL_SLEEP_H):
+                    added.append((lo, hi))
+    longest = timedelta(hours=MAX_WAKE_H)
+    merged = sorted(episodes + added)
+    for _ in range(len(spots)):
+        gaps = [(w, b) for (_, w), (b, _) in zip(merged[:-1], merged[1:]) if b - w > longest]
+        filled = False
+        for awake, asleep in gaps:
+            for a, b, _ in spots:
+                lo, hi = max(a, awake), min(b, asleep)
+                if hi - lo < timedelta(hours=MIN_TRAVEL_SLEEP_H):
+                    continue
+                length = min(hi - lo, max(timedelta(hours=MIN_TRAVEL_SLEEP_H), (asleep - awake) - 2 * longest))
+                start = awake + ((asleep - awake) - length) / 2
+                start = min(max(start, lo), hi - length)
+                merged = sorted(merged + [(start, start + length)])
+                filled = True
+                break
+            if filled:
+                break
+        if not filled:
+            break
+    return merged
+
+
 def _fit_sleep_to_travel(trip: Trip, episodes):
+    """Sleep episodes cut around the flights (up ``WAKE_BEFORE_DEPARTURE_H`` before each), then
+    sleep on flights and layovers added (:func:`_travel_sleep`)."""
+    return _travel_sleep(trip, _fit_sleep_around_flights(trip, episodes))
+
+
+def _fit_sleep_around_flights(trip: Trip, episodes):
     fitted = []
     for bed, wake in episodes:
         for flight in trip.flights:

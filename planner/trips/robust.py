@@ -63,6 +63,7 @@ from planner.trips.search import (
     Outcome,
     TripPlanner,
     TripPlanResult,
+    keep_to_lobes,
     person_score,
     plan_burden_days,
     target_place,
@@ -407,6 +408,8 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
         choices, _ = planner.refine(strategy, list(seed_result.choices), anchors, seed=seed, maxiter=maxiter,
                                     score_plans=score, extra_seeds=_variants(seed_result.choices, strategy))
         plan = planner.build(choices, anchors, strategy)
+        # windows kept in the lobes of the average person's simulated CBTmin under this plan
+        plan = keep_to_lobes(planner.evaluator, planner.evaluator.evaluate([plan], final=True)[0], strategy).plan
         found, before = crowd.stats([plan, seed_result.outcome.plan], [strategy, strategy], by_day=by_day)
         if before.score <= found.score:
             plan, found = seed_result.outcome.plan, before

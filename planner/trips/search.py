@@ -46,6 +46,7 @@ from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError
 from planner.intervals import free_segments
 from planner.trips.model import (
+    IN_FLIGHT_SETTLE_H,
     WAKE_BEFORE_DEPARTURE_H,
     Plan,
     Targets,
@@ -82,8 +83,14 @@ WINDOW_LATTICE_H = 0.25
 #: runs over the hours after CBTmin and the delaying side over the hours before it, where a
 #: type 1 PRC has its advance and delay regions (Khalsa et al. 2003, J Physiol 549:945).
 RESPONSE_SIDE_H = 8.0
-#: Shortest prescribed window [min]: shorter ones are dropped (a practicality limit of this planner).
-MIN_WINDOW_MINUTES = 10.0
+#: Shortest prescribed window [min]: shorter ones are dropped, as too short to be worth doing (a
+#: practicality limit of this planner).
+MIN_WINDOW_MINUTES = 15.0
+#: Width of each response lobe around CBTmin [h]: light in the LOBE_H hours after CBTmin advances
+#: the clock and light in the LOBE_H hours before it delays (the advance and delay regions of the
+#: human PRC to bright light, Khalsa et al. 2003, J Physiol 549:945, Fig. 2). A bright-light window
+#: sits in the lobe that moves the clock the planned way, a light-avoidance window in the other.
+LOBE_H = 10.0
 #: Day placements :meth:`TripPlanner.build` remembers before starting afresh (bounds memory).
 PLACED_CACHE_SIZE = 50_000
 #: The brute-force reference plan (:meth:`TripPlanner.reference_candidates`): each day, a bright-light
@@ -100,12 +107,9 @@ SHORT_STAY_DAYS = 3
 #: Staying on home time succeeds while CBTmin keeps within this of its home phase [h]
 #: (the re-entrainment tolerance, read the other way round).
 HOME_TIME_TOLERANCE_H = REENTRAINMENT_TOLERANCE_H
-#: Hours after take-off and around landing without sleep when sleeping on a flight [h]
-#: (boarding, meals, landing; a planner's default, common practice).
-IN_FLIGHT_SETTLE_H = 1.0
-#: A day's windows stay within this distance of its anchor (predicted CBTmin), so that the
-#: windows of consecutive days (anchors about 24 h apart) cannot claim the same hours.
-ANCHOR_REACH = timedelta(hours=HOURS_PER_DAY / 2)
+#: Rounds of moving windows into the lobes of the plan's own simulated CBTmin (see
+#: :func:`keep_to_lobes`); the windows settle in one or two (measured here).
+LOBE_ROUNDS = 4
 
 
 @dataclass(frozen=True)
@@ -132,6 +136,8 @@ class Outcome:
     aim: Aim = "route"
     #: Largest |CBTmin − target| from the arrival day until the return flight (or the end) [h].
     max_away_error_h: float = math.nan
+    #: Every simulated CBTmin of the plan (UTC), in order.
+    cbtmins: tuple[datetime, ...] = ()
 
     @property
     def near_low_amplitude(self) -> bool:
@@ -270,7 +276,8 @@ class Evaluator:
         score = person_score(settled.day, stay) + plan_burden_days(self.trip, plan)
         finite = np.abs(stay[np.isfinite(stay)])
         largest = float(finite.max()) if finite.size else math.nan
-        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
+        every = tuple(epoch + timedelta(hours=float(h)) for h in marker_h if math.isfinite(h))
+        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest, every)
 
 
 def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
@@ -343,13 +350,15 @@ def _longest(segments):
 def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidden) -> Window | None:
     """The longest part of [start, end] the traveller can use for ``source``; None if none.
 
-    Light boxes and dark glasses avoid sleep, flights and busy hours; daylight also needs the
-    sun up at the place the traveller is.
+    Light boxes and dark glasses avoid sleep, flights and busy hours.  Daylight needs the sun up
+    at the place the traveller is, and so do dark glasses: after sunset they are a hazard on the
+    road and on foot (the cautions' "never while driving or cycling at night or in dim light";
+    the roster planner keeps the same rule).
     """
     light = trip.light
     segments = free_segments(start, end, forbidden)
-    if source == "daylight":
-        if not light.daylight:
+    if source in ("daylight", "dark glasses"):
+        if source == "daylight" and not light.daylight:
             return None
         place = where_at(trip, start)
         if place is None:
@@ -360,6 +369,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
                 continue
             sunny += daylight_within(trip, place, s, e)
         segments = sunny
+    if source == "daylight":
         cap, lux = light.daylight_max_minutes, light.daylight_lux
     elif source == "light box":
         cap, lux = light.box_max_minutes, light.box_lux
@@ -373,6 +383,33 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
         return None
     return Window(s, e, lux, source)
+
+
+def lobe(cbtmin: datetime, kind: Literal["bright", "avoid"], strategy: Strategy) -> tuple[datetime, datetime]:
+    """The hours around ``cbtmin`` where a window of ``kind`` moves the clock the ``strategy``'s way.
+
+    Bright light for an advance goes in the ``LOBE_H`` hours after CBTmin, for a delay in the
+    ``LOBE_H`` hours before it; light-avoidance takes the other lobe, where light would push the
+    clock the wrong way (Khalsa et al. 2003, J Physiol 549:945).
+    """
+    after = (kind == "bright") == (strategy == "advance")
+    reach = timedelta(hours=LOBE_H)
+    return (cbtmin, cbtmin + reach) if after else (cbtmin - reach, cbtmin)
+
+
+def nearest_cbtmin(cbtmins: Sequence[datetime], moment: datetime) -> datetime | None:
+    """The simulated CBTmin closest to ``moment``; None without any."""
+    return min(cbtmins, key=lambda c: abs(hours_between(c, moment))) if cbtmins else None
+
+
+def in_lobe(window: Window, cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"], strategy: Strategy) -> bool:
+    """Whether the window's midpoint lies in its lobe (:func:`lobe`) of the nearest simulated CBTmin."""
+    middle = window.start + (window.end - window.start) / 2
+    anchor = nearest_cbtmin(cbtmins, middle)
+    if anchor is None:
+        return True
+    lo, hi = lobe(anchor, kind, strategy)
+    return lo <= middle <= hi
 
 
 @dataclass(frozen=True)
@@ -421,25 +458,25 @@ class TripPlanner:
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
-            key = (placed, choice, anchor)
+            key = (placed, choice, anchor, strategy)
             following = self._placed.get(key)
             if following is None:
-                following = self._placed[key] = self._place_day(placed, choice, anchor)
+                following = self._placed[key] = self._place_day(placed, choice, anchor, strategy)
             placed = following
         return Plan(sleep, placed[1], placed[2])
 
-    def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime) -> tuple:
+    def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime, strategy: Strategy) -> tuple:
         """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
         sleep, bright, avoid, used_items = placed
         bright, avoid, used = list(bright), list(avoid), dict(used_items)
         forbidden = _forbidden(self.trip, sleep)
         caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
         # A day's windows sit on either side of its CBTmin, so they may fall on the evening
-        # before the day (delaying light before a CBTmin just after midnight): they are
-        # bounded by the anchor's own half-day, not by the calendar day.
-        lo = max(anchor - ANCHOR_REACH, self.trip.start)
-        hi = min(anchor + ANCHOR_REACH, self.trip.end)
+        # before the day (delaying light before a CBTmin just after midnight): each is bounded
+        # by its lobe of the anchor (:func:`lobe`), not by the calendar day.
         if choice.bright_hours > 0:
+            lo, hi = lobe(anchor, "bright", strategy)
+            lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
             e = s + timedelta(hours=choice.bright_hours)
             taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
@@ -454,6 +491,8 @@ class TripPlanner:
                 bright.append(window)
                 used[key] = used.get(key, 0.0) + window.minutes
         if choice.avoid_hours > 0:
+            lo, hi = lobe(anchor, "avoid", strategy)
+            lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
             e = s + timedelta(hours=choice.avoid_hours)
             taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
@@ -507,16 +546,17 @@ class TripPlanner:
 
     def reference_candidates(self, day: TripDay, strategy: Strategy, previous_shift: float) -> list[DayChoice]:
         """The brute-force reference's choices for a day: no light, or one bright-light window of
-        each length in ``REFERENCE_WINDOW_HOURS`` starting anywhere in the anchor's ±12 h on a
-        ``REFERENCE_START_STEP_H`` grid, from a light box or (when allowed) daylight; no avoidance
-        and no sleep shift.  ``build`` fits each to sleep, flights, busy hours, the sun and the
-        daily caps, as for every plan."""
-        reach = ANCHOR_REACH.total_seconds() / 3600.0
-        starts = np.arange(-reach, reach, REFERENCE_START_STEP_H)
+        each length in ``REFERENCE_WINDOW_HOURS`` lying anywhere in the anchor's bright-light lobe
+        (:func:`lobe`) on a ``REFERENCE_START_STEP_H`` grid, from a light box or (when allowed)
+        daylight; no avoidance and no sleep shift.  ``build`` fits each to sleep, flights, busy
+        hours, the sun and the daily caps, as for every plan."""
+        first, last = (0.0, LOBE_H) if strategy == "advance" else (-LOBE_H, 0.0)
         sources = ("light box", "daylight") if self.trip.light.daylight else ("light box",)
         options = [DayChoice(sleep_shift_h=previous_shift)]
-        options += [DayChoice(float(start), hours, source, sleep_shift_h=previous_shift)
-                    for source in sources for hours in REFERENCE_WINDOW_HOURS for start in starts]
+        for hours in REFERENCE_WINDOW_HOURS:
+            starts = np.arange(first, last - hours + REFERENCE_START_STEP_H / 2, REFERENCE_START_STEP_H)
+            options += [DayChoice(float(start), hours, source, sleep_shift_h=previous_shift)
+                        for source in sources for start in starts]
         return options
 
     def greedy(self, strategy: Strategy,
@@ -715,17 +755,53 @@ class TripPlanResult:
     citations: list
 
 
+def _clipped_to_lobes(windows: Sequence[Window], cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"],
+                      strategy: Strategy) -> tuple[Window, ...]:
+    """Each window cut to its lobe of the nearest simulated CBTmin; pieces under ``MIN_WINDOW_MINUTES`` dropped."""
+    kept = []
+    for window in windows:
+        anchor = nearest_cbtmin(cbtmins, window.start + (window.end - window.start) / 2)
+        start, end = window.start, window.end
+        if anchor is not None:
+            lo, hi = lobe(anchor, kind, strategy)
+            start, end = max(start, lo), min(end, hi)
+        if hours_between(start, end) * 60.0 >= MIN_WINDOW_MINUTES - 1e-6:
+            kept.append(window if (start, end) == (window.start, window.end)
+                        else Window(start, end, window.lux, window.source))
+    return tuple(kept)
+
+
+def keep_to_lobes(evaluator: Evaluator, outcome: Outcome, strategy: Strategy) -> Outcome:
+    """The plan of ``outcome`` with every window in its lobe of the plan's own simulated CBTmin.
+
+    The search places windows around a *predicted* CBTmin; the plan it settles on moves CBTmin,
+    so a window can end up on the wrong side of it, where bright light would push the clock the
+    other way.  Windows are cut to their lobe (:func:`lobe`) of the nearest simulated CBTmin and
+    the plan simulated again, until nothing changes (``LOBE_ROUNDS`` at most).
+    """
+    for _ in range(LOBE_ROUNDS):
+        plan = outcome.plan
+        bright = _clipped_to_lobes(plan.bright, outcome.cbtmins, "bright", strategy)
+        avoid = _clipped_to_lobes(plan.avoid, outcome.cbtmins, "avoid", strategy)
+        if bright == plan.bright and avoid == plan.avoid:
+            break
+        outcome = evaluator.evaluate([Plan(plan.sleep, bright, avoid)], final=True)[0]
+    return outcome
+
+
 def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) -> StrategyResult:
     """Greedy plan for one strategy, its global refinement, and the brute-force reference
     (:meth:`TripPlanner.reference_candidates`), all three simulated at the validated step; the
-    plan re-entraining soonest wins, then the lower score.  So the search never does worse than
-    the reference."""
+    plan re-entraining soonest wins, then the lower score, so the search never does worse than
+    the reference. The winner's windows are then kept in their lobes of its own simulated CBTmin
+    (:func:`keep_to_lobes`)."""
     choices, anchors, greedy_outcome = planner.greedy(strategy)
     refined_choices, refined_outcome = planner.refine(strategy, choices, anchors, seed=seed)
     better = refined_outcome.score < greedy_outcome.score - 1e-9
     searched = (refined_choices, anchors, refined_outcome) if better else (choices, anchors, greedy_outcome)
     reference = planner.greedy(strategy, planner.reference_candidates)
     finals = planner.evaluator.evaluate([searched[2].plan, reference[2].plan], final=True)   # the validated step
+    finals = [keep_to_lobes(planner.evaluator, outcome, strategy) for outcome in finals]
     pick = min((0, 1), key=lambda i: (_days_or_inf(finals[i]), finals[i].score, i))
     picked_choices, picked_anchors, _ = (searched, reference)[pick]
     return StrategyResult(strategy, finals[pick], greedy_outcome.score, better,
@@ -738,6 +814,27 @@ def _days_or_inf(outcome: Outcome) -> float:
     return math.inf if outcome.reentrainment_days is None else float(outcome.reentrainment_days)
 
 
+def moved(outcome: Outcome) -> str:
+    """How the body clock actually moved over the time away, e.g. "advanced 8.9 h"."""
+    if outcome.direction == "none":
+        return f"moved under 1 h (net {outcome.net_shift_h:+.1f} h)"
+    return f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {abs(outcome.net_shift_h):.1f} h"
+
+
+def moved_as_named(result: StrategyResult) -> bool:
+    """Whether an advance (delay) plan moved the clock earlier (later), as its name says."""
+    return result.strategy not in ("advance", "delay") or result.outcome.direction == result.strategy
+
+
+def _plan_words(result: StrategyResult) -> str:
+    """A plan named by what it did: "the advance plan (clock advanced 8.9 h)", with a warning when
+    the clock went the other way than the plan's name."""
+    text = f"the {result.strategy} plan (clock {moved(result.outcome)}"
+    if not moved_as_named(result):
+        text += f", the other way than a {result.strategy} intends"
+    return text + ")"
+
+
 def recommend(results: dict) -> tuple[Strategy, str]:
     """Choose between strategies: fewer days to re-entrain, then less light-box time; avoid
     a plan passing near low amplitude when the other is at most a day slower."""
@@ -748,17 +845,19 @@ def recommend(results: dict) -> tuple[Strategy, str]:
     a_days, d_days = _days_or_inf(adv.outcome), _days_or_inf(dly.outcome)
     fast, slow = (adv, dly) if (a_days, adv.outcome.box_minutes) <= (d_days, dly.outcome.box_minutes) else (dly, adv)
     f_days, s_days = _days_or_inf(fast.outcome), _days_or_inf(slow.outcome)
+    fast_words, slow_words = _plan_words(fast), _plan_words(slow)
     if fast.outcome.near_low_amplitude and not slow.outcome.near_low_amplitude and s_days - f_days <= 1:
-        return slow.strategy, (f"{slow.strategy} is at most a day slower and, unlike {fast.strategy}, does not pass "
+        return slow.strategy, (f"{slow_words} is at most a day slower and, unlike {fast_words}, does not pass "
                                "near low circadian amplitude, where the response to light is unpredictable")
     if math.isinf(f_days):
-        return fast.strategy, (f"neither strategy re-entrains within the trip; {fast.strategy} ends closest "
+        return fast.strategy, (f"neither plan re-entrains within the trip; {fast_words} ends closest "
                                "to the target")
     if f_days == s_days:
-        return fast.strategy, f"both re-entrain in {int(f_days)} days; {fast.strategy} needs less light-box time"
+        return fast.strategy, (f"both re-entrain in {int(f_days)} days; {fast_words} needs less light-box time "
+                               f"than {slow_words}")
     slower = "does not re-entrain within the trip" if math.isinf(s_days) else f"needs {int(s_days)}"
-    return fast.strategy, (f"{fast.strategy} re-entrains in {int(f_days)} days after arrival; "
-                           f"{slow.strategy} {slower}")
+    return fast.strategy, (f"{fast_words} re-entrains in {int(f_days)} days after arrival; "
+                           f"{slow_words} {slower}")
 
 
 def plan_home_time(planner: TripPlanner) -> StrategyResult:

@@ -88,25 +88,40 @@ def day_views(trip: Trip, outcome: Outcome) -> list[DayView]:
             for o in outcome.days]
 
 
+#: A required move within this of 12 h is "half way round" [h]: neither direction is the long way
+#: round (the required moves come from simulated entrained phases, so an exact 12-h clock change
+#: needs 12 h give or take a few minutes of light differences; a design tolerance).
+HALF_WAY_TOLERANCE_H = 0.25
+
+
 def shorter_way(alternatives: dict) -> tuple[str, float] | None:
     """The direction needing the smaller clock move, and that move [h], from the planned strategies'
-    required shifts (an advance of x h is a delay of 24 − x h); None without advance/delay plans."""
+    required shifts (an advance of x h is a delay of 24 − x h); None without advance/delay plans, or
+    when both ways are (within ``HALF_WAY_TOLERANCE_H``) 12 h, so neither is shorter."""
     for name in ("advance", "delay"):
         result = alternatives.get(name)
         if result is None:
             continue
         advance = result.required_shift_h if name == "advance" else 24.0 - result.required_shift_h
+        if abs(advance - HOURS_PER_DAY / 2) <= HALF_WAY_TOLERANCE_H:
+            return None
         return ("advance", advance) if advance <= 12.0 else ("delay", 24.0 - advance)
     return None
 
 
-def movement(outcome: Outcome, alternatives: dict) -> str:
+def movement(outcome: Outcome, alternatives: dict, intended: str | None = None) -> str:
     """How the body clock moved over the time away, in words, e.g. ``"delayed 12.8 h, the long way
-    round (advancing 9.0 h is the shorter way)"``."""
+    round (advancing 9.0 h is the shorter way)"``; with ``intended`` ("advance" or "delay") a plan
+    that moved the clock the other way says so."""
     net = abs(outcome.net_shift_h)
     if outcome.direction == "none":
-        return f"stayed within 1 h of where it started (net {outcome.net_shift_h:+.1f} h)"
-    text = f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {net:.1f} h"
+        text = f"stayed within 1 h of where it started (net {outcome.net_shift_h:+.1f} h)"
+    else:
+        text = f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {net:.1f} h"
+    if intended in ("advance", "delay") and outcome.direction != intended:
+        text += f" — not the {intended} this plan aims for"
+    if outcome.direction == "none":
+        return text
     shorter = shorter_way(alternatives)
     if outcome.aim == "route" and shorter is not None and shorter[0] != outcome.direction and shorter[1] >= 1.0:
         verb = "advancing" if shorter[0] == "advance" else "delaying"
