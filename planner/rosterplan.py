@@ -68,7 +68,9 @@ from planner.population import (LIGHT_SENSITIVITY_SD_LN, REPORTED_PERCENTILES, P
                                 simulate_population, spread)
 from planner.roster import (Draft, Roster, RosterDay, RosterPlan, ShiftKind, period, roster_days,
                             roster_schedule, sunlit)
-from planner.trip import LightOptions, Window, place_pattern
+from planner.sleepiness import (ShiftSleepiness, acrophase_after_cbtmin, load_alertness_model, plan_sleep,
+                                shift_sleepiness, steady_s)
+from planner.trip import Window, place_pattern
 from planner.tripplan import SEARCH_STEP_MINUTES
 
 Strategy = Literal["nights", "compromise", "day"]
@@ -314,7 +316,7 @@ def _add_daylight(roster: Roster, draft: Draft, windows: list, start: datetime, 
         if any(_overlaps((a, b), d.work) for d in days if d.work is not None):
             continue
         if hours_between(a, b) * 60.0 >= 10.0:
-            windows.append(Window(a, b, roster.daylight_lux, "daylight"))
+            windows.append(Window(a, b, roster.light.mean_daylight(roster.site, a, b), "daylight"))
 
 
 def candidate_settings(roster: Roster, strategy: Strategy) -> list[Settings]:
@@ -380,6 +382,9 @@ class Metrics:
     runs : list of Run
     min_amplitude_ratio : ndarray, shape (N,)
         Lowest oscillator amplitude over the draft relative to the entrained amplitude.
+    sleepiness : ShiftSleepiness, optional
+        The three-process model's sleepiness on each shift and drive home (:mod:`planner.sleepiness`);
+        its columns are the work days in order.
     """
 
     score: np.ndarray
@@ -394,6 +399,7 @@ class Metrics:
     days_to_adapt: np.ndarray
     runs: list
     min_amplitude_ratio: np.ndarray
+    sleepiness: ShiftSleepiness | None = None
 
     @property
     def worst_day(self) -> np.ndarray:
@@ -406,7 +412,8 @@ class Metrics:
         return Metrics(self.score[pick], self.work_low_h[pick], self.sleep_out_of_phase_h[pick],
                        self.awake_in_night_h[pick], self.cbtmin[pick],
                        self.dlmo[pick], self.work_low_day_h[pick], self.day_burden_h[pick], self.adapted[pick], self.days_to_adapt[pick],
-                       self.runs, self.min_amplitude_ratio[pick])
+                       self.runs, self.min_amplitude_ratio[pick],
+                       None if self.sleepiness is None else self.sleepiness.column(j))
 
 
 def _padded(times: list[np.ndarray]) -> np.ndarray:
@@ -437,6 +444,7 @@ class Reference:
     bed_from_cbtmin_h: float    # habitual bedtime minus CBTmin [h], negative
     wake_from_cbtmin_h: float   # habitual wake minus CBTmin [h]
     amplitude: float
+    alertness_lag_h: float = math.nan   # alertness peak after CBTmin [h] (planner.sleepiness)
 
 
 def reference(roster: Roster, model: ModelSpec) -> Reference:
@@ -447,8 +455,7 @@ def reference(roster: Roster, model: ModelSpec) -> Reference:
     so that a few drawn workers at the edge of the range of entrainment (long period, low light
     sensitivity) keep the state that gives them instead of failing the run.
     """
-    light = LightOptions(indoor_lux=roster.indoor_lux, daylight_lux=roster.daylight_lux)
-    pattern = place_pattern(roster.site, light)
+    pattern = place_pattern(roster.site, roster.light)
     if model_batch_size(model) > 1:
         steady = entrain_people(model, pattern)
     else:
@@ -460,7 +467,8 @@ def reference(roster: Roster, model: ModelSpec) -> Reference:
     bed = (roster.site.bed_h - cbt + HOURS_PER_DAY / 2) % HOURS_PER_DAY - HOURS_PER_DAY / 2
     wake = bed + (roster.site.wake_h - roster.site.bed_h) % HOURS_PER_DAY
     amplitude = float(np.nanmedian(model.family.amplitude(steady.state[:2])))
-    return Reference(steady.state, cbt, bed, wake, amplitude)
+    lag = acrophase_after_cbtmin(model) if model_batch_size(model) == 1 else math.nan
+    return Reference(steady.state, cbt, bed, wake, amplitude, lag)
 
 
 def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, ref: Reference) -> Metrics:
@@ -534,7 +542,31 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     work_low = low.sum(axis=1)
     score = (work_low + awake_in_night) * 7.0 / len(days)
     amplitude = model_amplitude_ratio(result, ref)
-    return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted, to_adapt, runs, amplitude)
+    sleepiness = _sleepiness(roster, plans, size, epoch, cbt, w0, w1, bounds[-1], ref)
+    return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted,
+                   to_adapt, runs, amplitude, sleepiness)
+
+
+def _sleepiness(roster: Roster, plans: Sequence[RosterPlan], size: int, epoch: datetime, cbt: np.ndarray,
+                w0: np.ndarray, w1: np.ndarray, span_h: float, ref: Reference) -> ShiftSleepiness | None:
+    """The three-process model on every shift; Process S is computed once per distinct plan."""
+    if not math.isfinite(ref.alertness_lag_h):
+        return None
+    model = load_alertness_model()
+    distinct: dict[int, int] = {}
+    unique: list[RosterPlan] = []
+    for plan in plans:
+        if id(plan) not in distinct:
+            distinct[id(plan)] = len(unique)
+            unique.append(plan)
+    sleeps = [(np.array([hours_between(epoch, a) for a, _ in plan.sleep]),
+               np.array([hours_between(epoch, b) for _, b in plan.sleep])) for plan in unique]
+    # The epoch is local midnight of the first day: S starts at the habitual day's value there.
+    s0 = steady_s(roster.site.bed_h, roster.site.wake_h, 0.0, model)
+    plan_s = plan_sleep(sleeps, span_h, s0, model)
+    column_plan = np.array([distinct[id(plans[j if len(plans) > 1 else 0])] for j in range(size)])
+    return shift_sleepiness(plan_s, column_plan, cbt, ref.alertness_lag_h, w0, w1, roster.commute_minutes / 60.0,
+                            model)
 
 
 def model_amplitude_ratio(result, ref: Reference) -> np.ndarray:

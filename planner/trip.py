@@ -26,14 +26,11 @@ from planner.errors import ComputationError, InputError
 from planner.light import LightLayer, LightSchedule, ambient, dark_glasses, hours_between, light_box, sleep
 from planner.markers import HOURS_PER_DAY
 from planner.parameters import ModelSpec
+from planner.daylight import DEFAULT_EXPOSURE, DEFAULT_SKY, daylight_layers, mean_daylight, noon_daylight
 from planner.sun import daylight_intervals
 
 UTC = timezone.utc
 
-#: Typical outdoor illuminance used for "daylight" when nothing better is known [lux]
-#: (overcast to bright daylight spans ~1,000-100,000 lux; 10,000 is the usual round figure;
-#: common practice, no single source).
-DEFAULT_DAYLIGHT_LUX = 10_000.0
 #: Cabin illuminance on a flight while awake [lux] (dimmed cabin and window shades; invented default,
 #: stated so the user can change it).
 DEFAULT_CABIN_LUX = 50.0
@@ -122,9 +119,11 @@ class LightOptions:
     box_max_minutes : float  [min/day]
     glasses_transmission : float  [0..1] dark glasses
     daylight : bool  whether outdoor daylight may be prescribed
-    daylight_lux : float  [lux]
+    daylight_lux : float or None  [lux] cap on daylight at the eye (None: as the sky gives it)
     daylight_max_minutes : float  [min/day] prescribed outdoor time
     cabin_lux : float  [lux]
+    sky : {"clear", "partly", "overcast"}  sky type of the daylight model (:mod:`planner.daylight`)
+    daylight_exposure : {"open", "shade", "window"}  how the traveller spends outdoor time
     """
 
     indoor_lux: float = 150.0
@@ -132,9 +131,21 @@ class LightOptions:
     box_max_minutes: float = 60.0
     glasses_transmission: float = 0.1
     daylight: bool = True
-    daylight_lux: float = DEFAULT_DAYLIGHT_LUX
+    daylight_lux: float | None = None
     daylight_max_minutes: float = 120.0
     cabin_lux: float = DEFAULT_CABIN_LUX
+    sky: str = DEFAULT_SKY
+    daylight_exposure: str = DEFAULT_EXPOSURE
+
+    def daylight_layers(self, place: "Place", start: datetime, end: datetime, source: str = "daylight") -> list[LightLayer]:
+        """Daylight at ``place`` from ``start`` to ``end`` as layers following the sun (:mod:`planner.daylight`)."""
+        return daylight_layers(start, end, place.latitude, place.longitude, sky=self.sky,
+                               exposure=self.daylight_exposure, cap_lux=self.daylight_lux, source=source)
+
+    def mean_daylight(self, place: "Place", start: datetime, end: datetime) -> float:
+        """Mean daylight at the eye at ``place`` over [start, end] [lux]."""
+        return mean_daylight(start, end, place.latitude, place.longitude, sky=self.sky,
+                             exposure=self.daylight_exposure, cap_lux=self.daylight_lux)
 
 
 @dataclass(frozen=True)
@@ -337,7 +348,7 @@ def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
         b = local_noon + timedelta(hours=BASELINE_OUTDOOR_H / 2)
         for start, end in daylight_within(trip, place, a, b):
             if where_at(trip, start) == place and where_at(trip, end) == place:
-                layers.append(ambient(start, end, trip.light.daylight_lux, "daylight"))
+                layers.extend(trip.light.daylight_layers(place, start, end))
     return tuple(layers)
 
 
@@ -347,6 +358,8 @@ def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
     for window in plan.bright:
         if window.source == "light box":
             layers.append(light_box(window.start, window.end, window.lux))
+        elif window.source == "daylight" and where_at(trip, window.start) is not None:
+            layers.extend(trip.light.daylight_layers(where_at(trip, window.start), window.start, window.end))
         else:
             layers.append(ambient(window.start, window.end, window.lux, window.source))
     for flight in trip.flights:
@@ -360,7 +373,9 @@ def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
 def place_pattern(place: Place, light: LightOptions) -> DailyPattern:
     """The habitual day at a place: its sleep, indoor light and an hour of midday daylight."""
     half = BASELINE_OUTDOOR_H / 2
-    return DailyPattern(place.bed_h, place.wake_h, light.indoor_lux, ((12.0 - half, 12.0 + half, light.daylight_lux),))
+    lux = noon_daylight(place.latitude, BASELINE_OUTDOOR_H, sky=light.sky, exposure=light.daylight_exposure,
+                        cap_lux=light.daylight_lux)
+    return DailyPattern(place.bed_h, place.wake_h, light.indoor_lux, ((12.0 - half, 12.0 + half, lux),))
 
 
 @dataclass(frozen=True)

@@ -314,7 +314,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
                 continue
             sunny += daylight_within(trip, place, s, e)
         segments = sunny
-        cap, lux = light.daylight_max_minutes, light.daylight_lux
+        cap, lux = light.daylight_max_minutes, None
     elif source == "light box":
         cap, lux = light.box_max_minutes, light.box_lux
     else:
@@ -326,6 +326,8 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     e = min(e, s + timedelta(minutes=cap))
     if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
         return None
+    if lux is None:   # daylight follows the sun; the window shows its mean (planner.daylight)
+        lux = light.mean_daylight(place, s, e)
     return Window(s, e, lux, source)
 
 
