@@ -36,8 +36,14 @@ from planner.rosterplan import (ENSEMBLE_TOLERANCE_H, LOW_HALF_WIDTH_H, SHORT_NA
                                 roster_ensemble)
 from planner.rosterview import (RosterDayView, chart_legend, day_views, document_from_roster, score_text,
                                 text_chart)
+from planner import sleepview
 from planner.trip import Window
 
+
+
+class RankBy(str, Enum):
+    disruption = "disruption"
+    sleepiness = "sleepiness"
 
 
 class RosterStrategy(str, Enum):
@@ -75,6 +81,22 @@ def _unadapted_runs(metrics: Metrics, kind: str) -> tuple[int, int]:
     return int(np.isnan(metrics.days_to_adapt[0, picks]).sum()), len(picks)
 
 
+def sleepiness_entry(days, sleepiness, zone) -> dict[str, Any] | None:
+    if sleepiness is None:
+        return None
+    return {"summary": sleepview.summary(days, sleepiness),
+            "shifts": sleepview.shift_rows(days, sleepiness, days[0].start, zone)}
+
+
+def _sleepy_cells(d: DraftResult) -> tuple[str, str]:
+    sleepiness = d.best.metrics.sleepiness
+    if sleepiness is None:
+        return NONE_TEXT, NONE_TEXT
+    brief = sleepview.summary(d.days, sleepiness)
+    return (f"{brief['hours_at_kss_7_or_more_per_week']:.1f}",
+            f"{brief['sleepy_drives_home']} of {brief['drives_home']}")
+
+
 def _metrics_entry(roster: Roster, result: DraftResult, outcome: StrategyOutcome) -> dict[str, Any]:
     m = outcome.metrics
     days = result.days
@@ -99,6 +121,7 @@ def _metrics_entry(roster: Roster, result: DraftResult, outcome: StrategyOutcome
         "candidates_searched": outcome.candidates,
         "settings": {name: value for name, value in outcome.plan.settings},
         "settings_text": describe_settings(outcome.plan),
+        "sleepiness": sleepiness_entry(days, m.sleepiness, roster.site.zone),
     }
 
 
@@ -118,6 +141,8 @@ def _population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | N
         "night_runs_not_adapted_fraction": _number(pop.night_runs_unadapted),
         "daily_cbtmin_clock_h": [{"date": day.date.isoformat(), "p10": _number(row[0]), "median": _number(row[1]),
                                   "p90": _number(row[2])} for day, row in zip(result.days, pop.cbtmin_clock_h)],
+        "sleepiness": None if pop.metrics.sleepiness is None else
+        sleepview.population_summary(result.days, pop.metrics.sleepiness),
     }
 
 
@@ -220,8 +245,11 @@ def _document(roster: Roster, info: RosterInfo, model: ModelSpec, result: Roster
             "biological_night": "the window the habitual free-day sleep occupies relative to the entrained CBTmin, "
                                 "carried along with the current CBTmin",
             "adapted": "the day's CBTmin falls inside a sleep episode",
-            "rank_score_h_per_week": "population median score when workers > 0, else the average worker's",
+            "rank_score_h_per_week": "population median score when workers > 0, else the average worker's; "
+                                     "with --rank-by sleepiness: hours at work at KSS >= 7 per week instead",
+            "sleepiness": sleepview.SLEEPINESS_NOTE,
         },
+        "rank_by": result.drafts[0].rank_by,
     }
 
 
@@ -243,12 +271,16 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
                                     f"{DUFFY2011_TAU_SD_H} h (Duffy et al. 2011), seed {seed}"))
     _print_facts(console, None, facts)
 
-    ranking = Table(box=box.SIMPLE_HEAD, title="Drafts ranked, least disruptive first", title_justify="left",
+    order = "least sleepy first" if result.drafts[0].rank_by == "sleepiness" else "least disruptive first"
+    ranking = Table(box=box.SIMPLE_HEAD, title=f"Drafts ranked, {order}", title_justify="left",
                     caption=(f"score: hours per week of work within ±{LOW_HALF_WIDTH_H:g} h of CBTmin plus "
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
-                             "; no plan: the same draft without light measures."), caption_justify="left")
-    for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day"):
+                             "; no plan: the same draft without light measures; KSS≥7: hours at work at "
+                             "KSS 7 or more per week and drives home at KSS 7 or more (average worker; "
+                             "three-process model of alertness, a population forecast, not a fitness-for-duty "
+                             "test)."), caption_justify="left")
+    for header in ("#", "draft", "strategy", "score h/wk", "no plan", "worst day", "KSS≥7 h/wk", "sleepy drives"):
         ranking.add_column(header, no_wrap=header not in ("draft", "worst day"))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
@@ -265,7 +297,7 @@ def _print_roster(console: Console, roster: Roster, info: RosterInfo, model: Mod
         adapt = _mean_days(m, "night")
         ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", SHORT_NAMES[d.best_strategy], score_text(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
-                        f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
+                        f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h", *_sleepy_cells(d))
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
                       f"{m.sleep_out_of_phase_h[0] / weeks:.1f}",
                       NONE_TEXT if not math.isfinite(adapt) else f"{adapt:.1f} d",
@@ -397,6 +429,10 @@ def roster_command(
         "--models", metavar="LIST", help=("Run the recommended plan under each of these models (comma-separated ids "
                                           "or files, e.g. forger1999,jewett1999,hannay2019) and show where they "
                                           "disagree."))] = None,
+    rank_by: Annotated[RankBy, typer.Option(
+        "--rank-by", case_sensitive=False,
+        help=("Rank drafts by the disruption score, or by sleepiness: hours at work at KSS 7 or more per week "
+              "(three-process model of alertness)."))] = RankBy.disruption,
     json_out: JsonOption = False,
     ics: IcsOption = None,
     report: ReportOption = None,
@@ -408,12 +444,13 @@ def roster_command(
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     run_roster(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out,
-               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group), robust, models_list)
+               PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group), robust, models_list,
+               RankBy(rank_by).value)
 
 
 def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: str | None, draft: str | None,
                json_out: bool, files: PlanFiles = PlanFiles(), robust: bool = False,
-               models_list: str | None = None) -> None:
+               models_list: str | None = None, rank_by: str = "disruption") -> None:
     """Plan a roster file and print the result (shared by ``roster`` and ``demo``)."""
     roster, info = load_roster(path)
     model = load_model(model_name or info.model)
@@ -433,7 +470,8 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
         def report(done: int, total: int, label: str) -> None:
             progress.update(task, completed=done, total=total, description=escape(label))
 
-        result = plan_roster(roster, model, strategy, workers=workers, seed=seed, robust=robust, progress=report)
+        result = plan_roster(roster, model, strategy, workers=workers, seed=seed, robust=robust, progress=report,
+                             rank_by=rank_by)
         chosen = _pick(result, draft)
         ensemble = roster_ensemble(roster, chosen, [load_model(name) for name in ensemble_ids]) if ensemble_ids else None
     views = _views(chosen)

@@ -74,6 +74,8 @@ from planner.trip import Window, place_pattern
 from planner.tripplan import SEARCH_STEP_MINUTES
 
 Strategy = Literal["nights", "compromise", "day"]
+#: What drafts can be ranked by (``plan_roster(rank_by=...)``).
+RANK_BY = ("disruption", "sleepiness")
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
 STRATEGY_NAMES = {"nights": "full adaptation to nights", "compromise": "compromise phase position",
                   "day": "stay day-oriented (anchor sleep)", "none": "no plan"}
@@ -633,6 +635,7 @@ class PopulationSummary:
     night_runs_unadapted: float      # fraction of (worker, night run) pairs never adapted
     cbtmin_clock_h: np.ndarray       # (D, 3): p10, median, p90 of each day's CBTmin on the local clock [h]
     metrics: Metrics = field(repr=False)
+    sleepy_hours_per_week: dict | None = None   # hours at work at KSS >= 7 per 7 days (planner.sleepiness)
 
 
 @dataclass(frozen=True)
@@ -682,6 +685,7 @@ class DraftResult:
     chosen: str
     population: PopulationSummary | None
     robust: RobustChoice | None = None
+    rank_by: str = "disruption"
 
     @property
     def best(self) -> StrategyOutcome:
@@ -693,10 +697,24 @@ class DraftResult:
 
     @property
     def rank_score(self) -> float:
-        """What drafts are ranked by: the population's median score, else the average worker's."""
+        """What drafts are ranked by: the population's median, else the average worker's, of the disruption
+        score or (``rank_by == "sleepiness"``) of the hours at work at KSS >= 7 per week."""
+        if self.rank_by == "sleepiness":
+            if self.population is not None and self.population.sleepy_hours_per_week is not None:
+                return float(self.population.sleepy_hours_per_week["median"])
+            sleepiness = self.best.metrics.sleepiness
+            return math.nan if sleepiness is None else float(sleepiness.sleepy_hours_per_week(len(self.days))[0])
         if self.population is not None:
             return float(self.population.score["median"])
         return self.best.score
+
+    @property
+    def tie_break(self) -> float:
+        """Second ranking key under ``rank_by == "sleepiness"``: the mean of each shift's highest KSS."""
+        sleepiness = self.best.metrics.sleepiness
+        if self.rank_by != "sleepiness" or sleepiness is None or not np.isfinite(sleepiness.peak_kss).any():
+            return 0.0
+        return float(np.nanmean(sleepiness.peak_kss[0]))
 
 
 @dataclass(frozen=True)
@@ -750,10 +768,12 @@ def _summarise_population(roster: Roster, draft: Draft, metrics: Metrics, popula
     counts = adapted.sum(axis=1)
     mean_days = np.where(counts > 0, np.where(adapted, metrics.days_to_adapt, 0.0).sum(axis=1) / np.maximum(counts, 1),
                          np.nan)
+    sleepy = None if metrics.sleepiness is None else \
+        _floats(spread(metrics.sleepiness.sleepy_hours_per_week(len(days))))
     return PopulationSummary(population.size, int(population.seed or 0), _floats(spread(population.tau_h)),
                              _floats(spread(metrics.score)), _floats(spread(metrics.work_low_h)),
                              _floats(spread(metrics.sleep_out_of_phase_h)), _floats(spread(mean_days)),
-                             unadapted, bands, metrics)
+                             unadapted, bands, metrics, sleepy)
 
 
 def _floats(values: dict) -> dict:
@@ -813,7 +833,7 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
 
 def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | Strategy = "auto", *,
                 workers: int = 0, seed: int = 0, robust: bool = False,
-                sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN,
+                sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN, rank_by: str = "disruption",
                 progress: Callable[[int, int, str], None] | None = None) -> RosterResult:
     """Plan every draft of a roster and rank the drafts.
 
@@ -833,9 +853,14 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     robust : bool
         Also score every candidate over :data:`ROBUST_SEARCH_WORKERS` drawn workers (intrinsic period
         and light sensitivity) and recommend the plan with the lowest mean score (:func:`robust_draft`).
+    rank_by : {"disruption", "sleepiness"}
+        What drafts are ranked by: the disruption score, or the hours at work at KSS >= 7 per week
+        (ties broken by the mean of each shift's highest KSS; :mod:`planner.sleepiness`).
     progress : callable(done, total, label), optional
         Called after each step of work (the CLI draws a progress bar with it).
     """
+    if rank_by not in RANK_BY:
+        raise InputError(f"unknown ranking {rank_by!r}; allowed: {', '.join(RANK_BY)}", field="rank_by")
     if strategy != "auto" and strategy not in STRATEGIES:
         raise InputError(f"unknown strategy {strategy!r}; allowed: auto, {', '.join(STRATEGIES)}", field="strategy")
     if not isinstance(workers, (int, np.integer)) or workers < 0:
@@ -877,10 +902,10 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
             summary = _summarise_population(roster, draft, metrics, population, period(roster, draft)[0])
             tick(f"simulated {population.size} workers on {draft.name}")
         results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary,
-                                   robust_choice))
+                                   robust_choice, rank_by))
     finite = all(math.isfinite(r.rank_score) for r in results)
     ranked = sorted(results, key=lambda r: (r.rank_score if math.isfinite(r.rank_score) else math.inf,
-                                            roster.drafts.index(r.draft)))
+                                            r.tie_break, roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
     message = (f"{len(ranked)} draft(s) planned; least disruptive: {ranked[0].draft.name}" if finite else
                "some drafts have no finite disruption score (no CBTmin predicted on some days)")
@@ -892,6 +917,14 @@ def ranking_reason(ranked: Sequence[DraftResult]) -> str:
     """Plain words for why the first draft ranks first."""
     first = ranked[0]
     what = "median worker" if first.population is not None else "average worker"
+    if first.rank_by == "sleepiness":
+        text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} leaves the fewest hours at work at "
+                f"KSS 7 or more: {first.rank_score:.1f} h per week for the {what} (mean highest KSS per shift "
+                f"{first.tie_break:.1f})")
+        if len(ranked) > 1:
+            text += ", against " + "; ".join(f"{r.draft.name} {r.rank_score:.1f} h (KSS {r.tie_break:.1f})"
+                                             for r in ranked[1:])
+        return text
     text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} disrupts least: {first.rank_score:.1f} h per "
             f"week of work in the circadian low or biological night spent awake for the {what}")
     if len(ranked) > 1:
