@@ -12,6 +12,7 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
+from planner import sleepview
 from planner.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plandoc import DayRow, PlanDocument, PlanEvent, Section, stable_id
 from planner.population import DUFFY2011_CITATION
@@ -166,17 +167,20 @@ def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
             f"Go outdoors in daylight for {minutes} min (about {window.lux:,.0f} lux); no sunglasses.", purpose)
 
 
-def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None) -> list[PlanEvent]:
+def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None,
+                 sleepiness_notes: dict | None = None) -> list[PlanEvent]:
     days = roster_days(roster, draft)
     zone = roster.site.zone
     items = []
+    notes = sleepiness_notes or {}
     for day in days:
         if day.work is not None:
             shift = day.shift
             items.append((day.work, day.date, dict(
                 kind="work", summary=f"Shift {shift.code} ({shift.label})",
                 action=f"Work the {shift.label} shift ({shift.kind}).",
-                purpose="Your rostered shift; the light and sleep around it follow the plan.",
+                purpose="Your rostered shift; the light and sleep around it follow the plan."
+                        + (f" {notes[day.date]}" if day.date in notes else ""),
                 source=shift.label, lux=float(roster.work_lux), transmission=None)))
     for a, b in plan.sleep:
         owner = _owner(days, a, NIGHT_BELONGS_BACK)
@@ -206,6 +210,16 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None)
                                 place=roster.site.name, day=day,
                                 key=f"{prefix}{day.isoformat()}/{fields['kind']}/{ordinal}", **fields))
     return events
+
+
+def _night_notes(chosen, zone) -> dict:
+    """Night shifts' sleepiness lines for calendar descriptions, by local date (:mod:`planner.sleepview`)."""
+    sleepiness = chosen.best.metrics.sleepiness
+    if sleepiness is None:
+        return {}
+    rows = sleepview.shift_rows(chosen.days, sleepiness, chosen.days[0].start, zone)
+    return {day.date: sleepview.night_description(row)
+            for day, row in zip(sleepview.work_days(chosen.days), rows) if row["kind"] == "night"}
 
 
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
@@ -239,8 +253,10 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
     for crew in crews:
         draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
         crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
+        # The sleepiness forecast belongs to the plan simulated for the chosen draft itself.
+        notes = _night_notes(chosen, roster.site.zone) if crew_plan is plan and draft is chosen.draft else None
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
-                                                                 crew.name if crew else None))
+                                                                 crew.name if crew else None, notes))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
     zone = roster.site.zone
     rows = []
