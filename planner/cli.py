@@ -55,6 +55,7 @@ from planner.tripview import (DayView, clock_change_h, day_views, days_text, loc
                               strategy_name, zone_label, zone_name)
 from planner.evidence import StartingPhase, person_model, starting_phase
 from planner.lightlog import read_light_log
+from planner.validation import preparation_note
 from planner.robust import (SEARCH_PEOPLE, EnsembleResult, PlanStats, RobustResult, distribution_spec, model_ensemble,
                             population_report, robust_plan)
 
@@ -941,12 +942,16 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
         document["population"] = _population_entry(trip, people, seed, evidence, population)
         document["robust"] = _robust_entry(trip, robust_result, plan)
         document["ensemble"] = _ensemble_entry(trip, ensemble)
+        document["preparation_days_note"] = preparation_note(trip.preparation_days, model)
         document["cautions"] = document.pop("cautions")
         if written["ics"] or written["report"] or written["chart"]:
             document["written"] = written
         _emit_json(document)
         return
     _print_trip(console, trip, info, model, plan, views)
+    note = preparation_note(trip.preparation_days, model)
+    if note is not None:
+        console.print(f"[bold]Preparation days:[/bold] {escape(note['text'])}")
     _print_starting(console, start)
     if robust_result is not None:
         _print_robust(console, trip, robust_result, plan)

@@ -307,3 +307,22 @@ def recommended_default(validations: Sequence[Validation]) -> tuple[str, str]:
     others = "; ".join(f"{v.model_id} {v.agreeing}/{len(v.checks)}" for v in validations if v is not best)
     return best.model_id, (f"{best.model_id} agrees with {best.agreeing} of {len(best.checks)} published checks "
                            f"(against {others})")
+
+
+def preparation_note(preparation_days: int, model: ModelSpec) -> dict | None:
+    """A warning for a plan with preparation days when the model over-predicts the gradual pre-flight advance.
+
+    Returns None without preparation days or when the model's 3-day advance (:func:`gradual_advance_h`) lies
+    within the published range; else the model's and the published advance and one line of text.
+    """
+    if preparation_days <= 0:
+        return None
+    advance = gradual_advance_h(model)
+    if not np.isfinite(advance) or advance <= PREPARATION_OPTIMISTIC_ABOVE_H:
+        return None
+    return {"optimistic": True, "model_advance_h": round(advance, 2),
+            "published_advance_h": [1.4, PREPARATION_OPTIMISTIC_ABOVE_H],
+            "source": "Eastman et al. 2005, Sleep 28:33; Burgess et al. 2003, J Biol Rhythms 18:318",
+            "text": (f"{model.id} predicts a {advance:.1f}-h advance from 3 days of gradual preparation where "
+                     f"1.4-{PREPARATION_OPTIMISTIC_ABOVE_H:g} h was measured: the preparation days' phase "
+                     "predictions are optimistic; expect to arrive less shifted than shown.")}

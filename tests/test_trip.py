@@ -353,6 +353,10 @@ def test_demo_json_carries_the_plan(stored_plans):
     sources = [source for caution in document["cautions"] for source in caution["sources"]]
     # caution sources (the project's science reference, section 6)
     assert "Terman & Terman 2005, CNS Spectrums" in sources and "Lee et al. 2016, PNAS 113:176" in sources
+    # forger1999 advances 2.3 h in 3 gradual days where 1.4-1.9 h was measured (Eastman et al. 2005, Sleep
+    # 28:33; regression snapshot, measured here): the demo's preparation days are flagged optimistic.
+    note = document["preparation_days_note"]
+    assert trip.preparation_days > 0 and note["optimistic"] and note["model_advance_h"] > 1.9
 
 
 def test_trip_human_output_goes_to_stderr(stored_plans):
