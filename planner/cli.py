@@ -55,6 +55,7 @@ from planner.tripview import (DayView, clock_change_h, day_views, days_text, loc
                               strategy_name, zone_label, zone_name)
 from planner.evidence import StartingPhase, person_model, starting_phase
 from planner.lightlog import read_light_log
+from planner.sleepview import trip_sleepiest
 from planner.validation import preparation_note
 from planner.robust import (SEARCH_PEOPLE, EnsembleResult, PlanStats, RobustResult, distribution_spec, model_ensemble,
                             population_report, robust_plan)
@@ -943,6 +944,7 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
         document["robust"] = _robust_entry(trip, robust_result, plan)
         document["ensemble"] = _ensemble_entry(trip, ensemble)
         document["preparation_days_note"] = preparation_note(trip.preparation_days, model)
+        document["sleepiest_hours"] = trip_sleepiest(trip, plan.recommended.outcome, model)
         document["cautions"] = document.pop("cautions")
         if written["ics"] or written["report"] or written["chart"]:
             document["written"] = written
@@ -952,6 +954,11 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
     note = preparation_note(trip.preparation_days, model)
     if note is not None:
         console.print(f"[bold]Preparation days:[/bold] {escape(note['text'])}")
+    sleepiest = [row for row in trip_sleepiest(trip, plan.recommended.outcome, model) if row["start"]]
+    if sleepiest:
+        console.print("[bold]Sleepiest hours[/bold] (KSS 1-9, three-process model; a population forecast): " +
+                      "; ".join(f"{row['date']} {row['kind']} {row['start'][11:16]}–{row['end'][11:16]} "
+                                f"KSS {row['mean_kss']:.1f}" for row in sleepiest))
     _print_starting(console, start)
     if robust_result is not None:
         _print_robust(console, trip, robust_result, plan)

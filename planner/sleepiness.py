@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from datetime import timedelta
 from functools import lru_cache
 from typing import Sequence
 
@@ -329,3 +330,70 @@ def shift_sleepiness(plans: PlanSleep, column_plan: np.ndarray, cbtmin_h: np.nda
         out["drive_kss"][:, w] = model.kss(alertness(plans, column_plan, drive, cbtmin_h, lag_h, model)).max(axis=0)
     return ShiftSleepiness(out["lowest_alertness"], out["lowest_at_h"], out["peak_kss"], out["sleepy_hours"],
                            out["drive_kss"], out["drive_kss"] >= SLEEPY_KSS)
+
+
+# --------------------------------------------------------------------------- trips
+
+@dataclass(frozen=True)
+class SleepiestHour:
+    """The awake hour of a day with the highest mean KSS (None when the day has no awake hour)."""
+
+    start: object            # datetime (aware, UTC)
+    end: object
+    mean_kss: float
+    peak_kss: float
+
+
+def sleepiest_hours(sleeps: Sequence[tuple], cbtmins: Sequence, spans: Sequence[tuple], lag_h: float,
+                    s0: float, model: AlertnessModel | None = None) -> list[SleepiestHour | None]:
+    """For each (start, end) span, the awake hour with the highest mean KSS.
+
+    Parameters
+    ----------
+    sleeps : sequence of (datetime, datetime)
+        The planned sleep episodes (aware).
+    cbtmins : sequence of datetime or None
+        The simulated CBTmin of each day (None where there is none).
+    spans : sequence of (datetime, datetime)
+        The days to search (e.g. the travel and arrival days).
+    lag_h : float
+        Alertness peak after CBTmin (:func:`acrophase_after_cbtmin`) [h].
+    s0 : float
+        Process S at the first sleep's start (e.g. :func:`steady_s` of the habitual day).
+    """
+    model = model or load_alertness_model()
+    marks = [m for m in cbtmins if m is not None]
+    if not spans or not marks:
+        return [None for _ in spans]
+    epoch = min([a for a, _ in sleeps] + [a for a, _ in spans] + marks)
+    hours = lambda t: (t - epoch).total_seconds() / 3600.0  # noqa: E731
+    starts = np.array([hours(a) for a, _ in sleeps])
+    ends = np.array([hours(b) for _, b in sleeps])
+    span_h = max(hours(b) for _, b in spans) + 1.0
+    plans = plan_sleep([(starts, ends)], span_h, s0, model)
+    cbt = np.array([[hours(m) for m in marks]])
+    out = []
+    for a, b in spans:
+        grid = np.arange(hours(a), hours(b) - 1.0 + 1e-9, GRID_STEP_H)
+        if grid.size == 0:
+            out.append(None)
+            continue
+        points = np.arange(hours(a), hours(b) + 1e-9, GRID_STEP_H)
+        level = alertness(plans, np.array([0]), points, cbt, lag_h, model)[:, 0]
+        _, _, asleep = plans.at(points, np.array([0]))
+        kss = np.where(asleep[:, 0], np.nan, model.kss(level))
+        per_hour = int(round(1.0 / GRID_STEP_H))
+        best = None
+        for k in range(points.size - per_hour):
+            window = kss[k:k + per_hour + 1]
+            if np.isnan(window).any():
+                continue
+            mean = float(window.mean())
+            if best is None or mean > best[0]:
+                best = (mean, k, float(window.max()))
+        if best is None:
+            out.append(None)
+            continue
+        start = epoch + timedelta(hours=float(points[best[1]]))
+        out.append(SleepiestHour(start, start + timedelta(hours=1), best[0], best[2]))
+    return out
