@@ -21,12 +21,12 @@ import numpy as np
 import pytest
 from pvlib.atmosphere import get_relative_airmass
 
-from planner.daylight import (EXPOSURES, SKIES, air_mass, day_profile, daylight_at, daylight_layers, eye_illuminance,
-                              noon_daylight, sky_illuminance)
+from planner.world.daylight import (EXPOSURES, SKIES, air_mass, day_profile, daylight_at, daylight_layers, eye_illuminance,
+                              mean_daylight_for, noon_daylight, sky_illuminance)
 from planner.errors import InputError
-from planner.light import LightSchedule
-from planner.scenario import demo_path, load_trip
-from planner.trip import Plan, Window, plan_schedule
+from planner.world.light import LightSchedule, Window
+from planner.trips.scenario import demo_path, load_trip
+from planner.trips.model import Plan, plan_schedule
 
 UTC = timezone.utc
 
@@ -139,7 +139,7 @@ def test_tokyo_dusk_window_gets_less_light_than_noon():
     dusk = (datetime(2027, 3, 12, 16, 15, tzinfo=tz), datetime(2027, 3, 12, 17, 45, tzinfo=tz))
     noon = (datetime(2027, 3, 12, 11, 15, tzinfo=tz), datetime(2027, 3, 12, 12, 45, tzinfo=tz))
     assert dusk[1] < sunset
-    assert trip.light.mean_daylight(tokyo, *dusk) < 0.5 * trip.light.mean_daylight(tokyo, *noon)
+    assert mean_daylight_for(trip.light, tokyo, *dusk) < 0.5 * mean_daylight_for(trip.light, tokyo, *noon)
     # In a plan the window's light follows the sun down.
     plan = Plan(sleep=(), bright=(Window(dusk[0], dusk[1], 0.0, "daylight"),))
     schedule = plan_schedule(trip, plan)

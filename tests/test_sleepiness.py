@@ -16,12 +16,12 @@ from datetime import datetime, timedelta, timezone
 import numpy as np
 import pytest
 
-from planner.entrainment import DailyPattern, entrain
-from planner.integrate import simulate
-from planner.light import LightSchedule, ambient, sleep
-from planner.markers import cbtmin_times
-from planner.parameters import load_model
-from planner.sleepiness import (GRID_STEP_H, SLEEPY_KSS, acrophase_after_cbtmin, alertness, circadian_hours,
+from planner.engine.entrainment import DailyPattern, entrain
+from planner.engine.integrate import simulate
+from planner.world.light import LightSchedule, ambient, sleep
+from planner.engine.markers import cbtmin_times
+from planner.engine.parameters import load_model
+from planner.engine.sleepiness import (GRID_STEP_H, SLEEPY_KSS, acrophase_after_cbtmin, alertness, circadian_hours,
                                 load_alertness_model, plan_sleep, process_c, process_s, shift_sleepiness,
                                 sleep_inertia, steady_s)
 

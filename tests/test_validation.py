@@ -15,7 +15,7 @@ import pytest
 from typer.testing import CliRunner
 
 from planner.cli import app
-from planner.validation import Check, Validation, optimistic_preparation, recommended_default
+from planner.engine.validation import Check, Validation, optimistic_preparation, recommended_default
 
 
 def run(*args: str):
