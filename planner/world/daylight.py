@@ -280,6 +280,14 @@ def _pieces(start: datetime, end: datetime, latitude: float, longitude: float, s
     return tuple((bounds[k], bounds[k + 1], float(mean[k])) for k in range(mean.size))
 
 
+@lru_cache(maxsize=4096)
+def _layers(start: datetime, end: datetime, latitude: float, longitude: float, sky: Sky, exposure: Exposure,
+            cap_lux: float | None, source: str) -> tuple[LightLayer, ...]:
+    # Layers are immutable: the search builds the same windows for many candidate plans.
+    return tuple(ambient(a, b, lux, source) for a, b, lux in _pieces(start, end, latitude, longitude, sky, exposure,
+                                                                      cap_lux))
+
+
 def daylight_layers(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, *,
                     sky: Sky = DEFAULT_SKY, exposure: Exposure = DEFAULT_EXPOSURE, cap_lux: float | None = None,
                     source: str = "daylight") -> list[LightLayer]:
@@ -295,9 +303,8 @@ def daylight_layers(start: datetime, end: datetime, latitude_deg: float, longitu
     start, end = start.astimezone(UTC), end.astimezone(UTC)
     if end <= start:
         return []
-    pieces = _pieces(start, end, lat, lon, check_sky(sky), check_exposure(exposure),
-                     None if cap_lux is None else float(cap_lux))
-    return [ambient(a, b, lux, source) for a, b, lux in pieces]
+    return list(_layers(start, end, lat, lon, check_sky(sky), check_exposure(exposure),
+                        None if cap_lux is None else float(cap_lux), source))
 
 
 def mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, *,

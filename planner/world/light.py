@@ -180,8 +180,11 @@ class LightSchedule:
         lefts, rights = edges[:-1], edges[1:]
         mids = 0.5 * (lefts + rights)
         lux = np.full(mids.shape, float(background_lux))
-        for layer, (a, b) in zip(layers, bounds):
-            inside = (mids > a) & (mids < b)
+        # The mids are sorted, so each layer covers one contiguous run of them: mids > a and mids < b.
+        firsts = np.searchsorted(mids, [a for a, _ in bounds], side="right")
+        lasts = np.searchsorted(mids, [b for _, b in bounds], side="left")
+        for layer, first, last in zip(layers, firsts, lasts):
+            inside = slice(first, max(first, last))
             if layer.kind == "set":
                 lux[inside] = layer.value
             elif layer.kind == "at_least":
