@@ -56,6 +56,8 @@ GRID_STEP_H = 1.0 / 6.0
 #: Days of the habitual day the steady state of Process S is taken from (S forgets its start
 #: within two days: e^(−0.0353·16 − 0.381·8) < 0.03 per day).
 STEADY_DAYS = 6
+#: Batches up to this many columns keep the KSS along every shift (for charts); larger search batches do not.
+PROFILE_MAX_COLUMNS = 8
 
 
 @dataclass(frozen=True)
@@ -289,6 +291,9 @@ class ShiftSleepiness:
         Highest KSS on the way home after the shift (``commute_h`` from its end).
     drive_flag : ndarray of bool, shape (N, W)
         The way home reaches KSS ≥ 7.
+    profiles : tuple of (ndarray (E,), ndarray (N, E))
+        Per shift, the grid times [h since the epoch] and the KSS along the shift; kept only for small
+        batches (at most :data:`PROFILE_MAX_COLUMNS` columns, e.g. the final plans), else empty.
     """
 
     lowest_alertness: np.ndarray
@@ -297,10 +302,12 @@ class ShiftSleepiness:
     sleepy_hours: np.ndarray
     drive_kss: np.ndarray
     drive_flag: np.ndarray
+    profiles: tuple = ()
 
     def column(self, j: int) -> "ShiftSleepiness":
         pick = slice(j, j + 1)
-        return ShiftSleepiness(*(getattr(self, f)[pick] for f in self.__dataclass_fields__))
+        arrays = (getattr(self, f)[pick] for f in self.__dataclass_fields__ if f != "profiles")
+        return ShiftSleepiness(*arrays, tuple((times, kss[pick]) for times, kss in self.profiles))
 
     def sleepy_hours_per_week(self, days: int) -> np.ndarray:
         """Hours at work at KSS ≥ 7 per 7 days, shape (N,)."""
@@ -314,9 +321,12 @@ def shift_sleepiness(plans: PlanSleep, column_plan: np.ndarray, cbtmin_h: np.nda
     size, shifts = len(column_plan), len(work_starts_h)
     out = {name: np.full((size, shifts), np.nan) for name in ("lowest_alertness", "lowest_at_h", "peak_kss",
                                                               "sleepy_hours", "drive_kss")}
+    profiles = []
     for w, (a, b) in enumerate(zip(work_starts_h, work_ends_h)):
         points = np.arange(a, b + 1e-9, GRID_STEP_H)
         level = alertness(plans, column_plan, points, cbtmin_h, lag_h, model)          # (E, N)
+        if size <= PROFILE_MAX_COLUMNS:
+            profiles.append((points, model.kss(level).T))
         lowest = np.nanargmin(np.where(np.isfinite(level), level, np.inf), axis=0)
         out["lowest_alertness"][:, w] = level[lowest, np.arange(size)]
         out["lowest_at_h"][:, w] = points[lowest]
@@ -328,7 +338,7 @@ def shift_sleepiness(plans: PlanSleep, column_plan: np.ndarray, cbtmin_h: np.nda
         drive = np.arange(b, b + commute_h + 1e-9, GRID_STEP_H) if commute_h > 0 else np.array([b])
         out["drive_kss"][:, w] = model.kss(alertness(plans, column_plan, drive, cbtmin_h, lag_h, model)).max(axis=0)
     return ShiftSleepiness(out["lowest_alertness"], out["lowest_at_h"], out["peak_kss"], out["sleepy_hours"],
-                           out["drive_kss"], out["drive_kss"] >= SLEEPY_KSS)
+                           out["drive_kss"], out["drive_kss"] >= SLEEPY_KSS, tuple(profiles))
 
 
 # --------------------------------------------------------------------------- trips

@@ -67,6 +67,9 @@ class PlanEvent:
     key : str
         Stable within the plan, e.g. ``"2027-03-08/bright_light/1"`` (local date, kind, ordinal): the
         same event of an edited plan keeps its key, which keeps its calendar UID.
+    kss : tuple of (datetime, float)
+        Forecast sleepiness along a work event (instants in UTC, Karolinska Sleepiness Scale 1-9); empty
+        when none (charted as a band along the shift, not written to calendars).
     """
 
     kind: EventKind
@@ -82,6 +85,7 @@ class PlanEvent:
     lux: float | None
     key: str
     transmission: float | None = None
+    kss: tuple = ()
 
     def __post_init__(self):
         if self.start.tzinfo is None or self.end.tzinfo is None:

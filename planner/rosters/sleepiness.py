@@ -80,6 +80,14 @@ def population_summary(days: Sequence, sleepiness: ShiftSleepiness) -> dict[str,
     }
 
 
+def shift_profiles(days: Sequence, sleepiness: ShiftSleepiness, epoch: datetime, row: int = 0) -> dict:
+    """KSS along each shift for worker ``row``, by the shift's local date: ((UTC instant, KSS), ...)."""
+    if not sleepiness.profiles:
+        return {}
+    return {day.date: tuple((epoch + timedelta(hours=float(t)), float(k)) for t, k in zip(times, kss[row]))
+            for day, (times, kss) in zip(work_days(days), sleepiness.profiles)}
+
+
 def night_description(row: dict) -> str:
     """One line for a night shift's calendar event: the sleepiest time and the drive home."""
     text = (f"Forecast sleepiness (KSS 1-9): highest {row['peak_kss']:.1f} around "

@@ -174,11 +174,12 @@ def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
 
 
 def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None,
-                 sleepiness_notes: dict | None = None) -> list[PlanEvent]:
+                 sleepiness_notes: dict | None = None, profiles: dict | None = None) -> list[PlanEvent]:
     days = roster_days(roster, draft)
     zone = roster.site.zone
     items = []
     notes = sleepiness_notes or {}
+    profiles = profiles or {}
     for day in days:
         if day.work is not None:
             shift = day.shift
@@ -187,7 +188,8 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None,
                 action=f"Work the {shift.label} shift ({shift.kind}).",
                 purpose="Your rostered shift; the light and sleep around it follow the plan."
                         + (f" {notes[day.date]}" if day.date in notes else ""),
-                source=shift.label, lux=float(roster.work_lux), transmission=None)))
+                source=shift.label, lux=float(roster.work_lux), transmission=None,
+                kss=profiles.get(day.date, ()))))
     for a, b in plan.sleep:
         owner = _owner(days, a, NIGHT_BELONGS_BACK)
         if owner is None:
@@ -216,6 +218,12 @@ def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None,
                                 place=roster.site.name, day=day,
                                 key=f"{prefix}{day.isoformat()}/{fields['kind']}/{ordinal}", **fields))
     return events
+
+
+def _profiles(chosen) -> dict:
+    """KSS along each shift of the chosen plan, by local date (for the report chart's sleepiness band)."""
+    sleepiness = chosen.best.metrics.sleepiness
+    return {} if sleepiness is None else sleepview.shift_profiles(chosen.days, sleepiness, chosen.days[0].start)
 
 
 def _night_notes(chosen, zone) -> dict:
@@ -260,9 +268,11 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
         draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
         crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
         # The sleepiness forecast belongs to the plan simulated for the chosen draft itself.
-        notes = _night_notes(chosen, roster.site.zone) if crew_plan is plan and draft is chosen.draft else None
+        own = crew_plan is plan and draft is chosen.draft
+        notes = _night_notes(chosen, roster.site.zone) if own else None
+        profiles = _profiles(chosen) if own else None
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
-                                                                 crew.name if crew else None, notes))
+                                                                 crew.name if crew else None, notes, profiles))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
     zone = roster.site.zone
     rows = []
