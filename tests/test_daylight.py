@@ -1,4 +1,4 @@
-"""Daylight at the eye (planner.daylight) against the IES 1984 equations, pvlib, astral and handbook figures.
+"""Daylight at the eye (planner.world.daylight) against the IES 1984 equations, pvlib, astral and handbook figures.
 
 References
 ----------

@@ -28,7 +28,7 @@ def _clock_difference(a: float, b: float) -> float:
 
 
 def _night_protocol(model_id: str, nights: int, sleep_h: tuple[float, float], **options):
-    """The protocol of :func:`planner.validation.night_protocol` for a built-in model."""
+    """The protocol of :func:`planner.rosters.validation.night_protocol` for a built-in model."""
     return night_protocol(load_model(model_id), nights, sleep_h, **options)
 
 

@@ -1,4 +1,4 @@
-"""The three-process model of alertness (planner.sleepiness): published equations and facts of shift work.
+"""The three-process model of alertness (planner.engine.sleepiness): published equations and facts of shift work.
 
 References
 ----------

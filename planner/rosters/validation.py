@@ -59,7 +59,7 @@ def night_protocol(model: ModelSpec, nights: int, sleep_h: tuple[float, float], 
         if glasses:
             avoid.append(Window(day.work[1], day.work[1] + timedelta(hours=1.5), 0.15, "dark glasses"))
         if brake:
-            # Afternoon outdoor light as a brake: daylight at the site (planner.daylight follows the sun).
+            # Afternoon outdoor light as a brake: daylight at the site (planner.world.daylight follows the sun).
             bright.append(Window(wake + timedelta(hours=0.5), wake + timedelta(hours=1.0), 10_000.0, "daylight"))
     routine_start = sleeps[-1][1] + timedelta(hours=1.0 if brake else 0.0)
     bright.append(Window(routine_start, routine_start + timedelta(hours=30), DIM_LUX, "constant routine"))
