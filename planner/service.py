@@ -20,7 +20,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from datetime import timezone
+from datetime import date, timezone
 from pathlib import Path
 from typing import Any, Literal
 
@@ -36,14 +36,23 @@ from planner.engine.entrainment import (
 from planner.engine.integrate import model_batch_size, simulate
 from planner.engine.parameters import ModelSpec, available_models, load_model
 from planner.engine.prc import DEFAULT_MEASURE_AFTER_DAYS, PRCSummary, PulseResponse, phase_response_curve, summarise
+from planner.engine.validation import (
+    ENGINE_CHECKS,
+    optimistic_preparation,
+    preparation_note,
+    recommended_default,
+    validate,
+)
 from planner.errors import InputError
 from planner.plans.document import PlanDocument
+from planner.scenariofile import DEFAULT_MODEL
 from planner.plans.entries import citation_entry, clock, model_entry, number, pattern_entry, problem_entry
 from planner.rosters import export as roster_export
 from planner.rosters.model import Roster
 from planner.rosters.scenario import RosterInfo, builtin_roster_paths, load_roster
 from planner.rosters.search import DraftResult, RosterEnsemble, RosterResult, roster_ensemble
 from planner.rosters.search import plan_roster as search_roster
+from planner.rosters.validation import ROSTER_CHECKS
 from planner.rosters.views import CrewPlan, RosterDayView, crew_plans, document_from_roster
 from planner.tomlfile import InputFileError, Problem, read_toml
 from planner.trips import export as trip_export
@@ -53,9 +62,13 @@ from planner.trips.model import Trip
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, model_ensemble, population_report, robust_plan
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
 from planner.trips.search import TripPlanResult
+from planner.trips.sleepiness import trip_sleepiest
 from planner.trips.search import plan_trip as search_trip
 from planner.trips.views import DayView, day_views, shorter_way
+from planner.world.daylight import SKIES, DayProfile, day_profile, load_daylight_model
+from planner.world.light import DEFAULT_EXPOSURE
 from planner.world.lightlog import read_light_log
+from planner.world.localtime import zone
 
 #: ``progress(label, done, total)``: called as long work goes on.
 ProgressCallback = Callable[[str, int, int], None]
@@ -268,6 +281,11 @@ class TripOutcome:
     robust: RobustResult | None = None
     population: tuple[dict[str, PlanStats], Any] | None = None
     ensemble: EnsembleResult | None = None
+    #: The model over-predicts the gradual pre-flight advance: preparation days are optimistic
+    #: (:func:`planner.engine.validation.preparation_note`); None otherwise.
+    preparation_note: dict | None = None
+    #: The sleepiest awake hour of each travel and arrival day (:mod:`planner.trips.sleepiness`).
+    sleepiest_hours: tuple = ()
 
     @property
     def models_used(self) -> list[ModelSpec]:
@@ -288,6 +306,8 @@ class TripOutcome:
                                                                self.population)
         document["robust"] = trip_export.robust_entry(trip, self.robust, self.plan)
         document["ensemble"] = trip_export.ensemble_entry(trip, self.ensemble)
+        document["preparation_days_note"] = self.preparation_note
+        document["sleepiest_hours"] = list(self.sleepiest_hours)
         document["cautions"] = document.pop("cautions")
         return document
 
@@ -346,7 +366,9 @@ def plan_trip(request: TripRequest, progress: ProgressCallback | None = None, *,
         ensemble = model_ensemble(trip, plan.recommended.outcome.plan, model_names(request.models),
                                   aim=plan.recommended.outcome.aim, evidence=evidence)
         _report(progress, "model ensemble", 1, 1)
-    return TripOutcome(request, trip, info, model, start, plan, views, robust_result, population, ensemble)
+    return TripOutcome(request, trip, info, model, start, plan, views, robust_result, population, ensemble,
+                       preparation_note(trip.preparation_days, model),
+                       tuple(trip_sleepiest(trip, plan.recommended.outcome, model)))
 
 
 # --------------------------------------------------------------------------- rosters
@@ -370,6 +392,8 @@ class RosterRequest:
     group : str or None
         A crew whose calendar alone is wanted (checked against the file).
     command : str
+    rank_by : {"disruption", "sleepiness"}
+        What drafts are ranked by.
     """
 
     path: str
@@ -384,6 +408,7 @@ class RosterRequest:
     command: str = "roster"
     #: Refuse drafts that break the working-time rules instead of ranking them last.
     strict: bool = False
+    rank_by: Literal["disruption", "sleepiness"] = "disruption"
 
 
 @dataclass(frozen=True)
@@ -445,7 +470,7 @@ def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None
         _report(progress, label, done, total)
 
     result = search_roster(roster, model, request.strategy, workers=request.workers, seed=request.seed,
-                           robust=request.robust, strict=request.strict, progress=searched)
+                           robust=request.robust, strict=request.strict, progress=searched, rank_by=request.rank_by)
     chosen = roster_export.pick_draft(result, request.draft)
     ensemble = None
     if request.models:
@@ -599,3 +624,67 @@ __all__ = [
     "load_checked_model", "model_names", "models_json", "plan_roster", "plan_trip", "prc", "prepare_roster",
     "prepare_trip",
 ]
+
+
+# --------------------------------------------------------------------------- daylight and validation
+
+def daylight_day(latitude: float, longitude: float, time_zone: str, day: str, *, skies: Sequence[str] = SKIES,
+                 exposure: str = DEFAULT_EXPOSURE, step_minutes: float = 30.0) -> DayProfile:
+    """Solar elevation and daylight at the eye through a local day (:func:`planner.world.daylight.day_profile`)."""
+    try:
+        when = date.fromisoformat(day)
+    except ValueError:
+        raise InputError(f"date {day!r} is not a date; give YYYY-MM-DD", field="--date") from None
+    return day_profile(when, latitude, longitude, zone(time_zone), step_minutes=step_minutes, skies=skies,
+                       exposure=exposure)
+
+
+def daylight_json(profile: DayProfile, time_zone: str) -> dict[str, Any]:
+    """The JSON document of ``phaseplan daylight --json`` (without ``schema_version``)."""
+    model = load_daylight_model()
+    return {
+        "command": "daylight",
+        "place": {"latitude": profile.latitude, "longitude": profile.longitude, "time_zone": time_zone},
+        "date": profile.day.isoformat(),
+        "exposure": profile.exposure,
+        "model": {"id": model.id, "citation": model.citation, "doi": model.doi},
+        "rows": [{"time": t.isoformat(timespec="minutes"), "solar_elevation_deg": round(float(e), 2),
+                  "lux": {s: round(float(values[k]), 1) for s, values in profile.lux.items()}}
+                 for k, (t, e) in enumerate(zip(profile.times, profile.elevation_deg))],
+        "conventions": {"lux": "illuminance at the eye (vertical plane, averaged over the directions faced) "
+                               "[lux]; the sun's elevation is geometric, without refraction [deg]"},
+    }
+
+
+#: Every published check of the validation table, by key (engine protocols, then the night-work ones).
+VALIDATION_CHECKS = {**ENGINE_CHECKS, **ROSTER_CHECKS}
+
+
+@dataclass(frozen=True)
+class ValidationOutcome:
+    """The validation table: every model's checks and the model it recommends as the default."""
+
+    validations: list
+    recommended: str
+    reason: str
+
+    def to_json(self) -> dict[str, Any]:
+        def entry(c) -> dict[str, Any]:
+            return {"key": c.key, "quantity": c.quantity, "published": number(c.published),
+                    "model": number(c.model), "band": [number(c.low), number(c.high)], "agrees": c.agrees,
+                    "source": c.source, "note": c.note}
+
+        return {"command": "models validate",
+                "models": [{"model": v.model_id, "agreeing": v.agreeing, "checks_run": len(v.checks),
+                            "success": v.success, "optimistic_preparation_days": optimistic_preparation(v),
+                            "checks": [entry(c) for c in v.checks]} for v in self.validations],
+                "recommended_default": {"model": self.recommended, "reason": self.reason},
+                "current_default": DEFAULT_MODEL}
+
+
+def validate_models(names: Sequence[str] = (), checks: Sequence[str] | None = None) -> ValidationOutcome:
+    """Run the published checks (all, or those named) for the models named (default: every built-in one)."""
+    names = list(names) or list(available_models())
+    validations = [validate(load_checked_model(name), checks, VALIDATION_CHECKS) for name in names]
+    recommended, reason = recommended_default(validations)
+    return ValidationOutcome(validations, recommended, reason)

@@ -15,3 +15,15 @@ def shipped_toml_files(folder: str) -> dict[str, Path]:
     packaged = resources.files("planner") / folder
     base = Path(str(packaged)) if packaged.is_dir() else Path(__file__).resolve().parent.parent / folder
     return {path.stem: path for path in sorted(base.glob("*.toml"))}
+
+
+def read_shipped_toml(folder: str, name: str, what: str) -> dict:
+    """The parsed contents of ``<folder>/<name>.toml`` shipped with the package; ``what`` names it in errors."""
+    import tomllib
+
+    from planner.errors import InputError
+
+    files = shipped_toml_files(folder)
+    if name not in files:
+        raise InputError(f"unknown {what} {name!r}; allowed: {', '.join(files)}", field=what)
+    return tomllib.loads(files[name].read_text(encoding="utf-8"))

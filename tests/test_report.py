@@ -14,11 +14,13 @@ import re
 import shutil
 import subprocess
 import xml.etree.ElementTree as ElementTree
+from dataclasses import replace
 from datetime import datetime, timedelta, timezone
 from pathlib import Path
 from zoneinfo import ZoneInfo
 
 import matplotlib.colors
+import matplotlib.pyplot as plt
 import pytest
 from PIL import Image
 from test_calendar import run, stored_plans  # noqa: F401  (the fixture is used by name)
@@ -111,6 +113,23 @@ def relative_luminance(colour: str) -> float:
         return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
     r, g, b = (linear(c) for c in matplotlib.colors.to_rgb(colour))
     return 0.2126 * r + 0.7152 * g + 0.0722 * b
+
+
+def test_chart_draws_a_sleepiness_band_along_shifts():
+    # A shift's forecast KSS is charted as a band under its bar, coloured from green (alert) to red (KSS 9,
+    # fighting sleep; Åkerstedt & Gillberg 1990, Int J Neurosci 52:29).
+    plain = roster_like_document()
+    work = plain.events[0]
+    steps = [work.start + timedelta(minutes=30 * k) for k in range(17)]
+    banded = replace(plain, events=(replace(work, kss=tuple((t, 4.0 + 0.3 * k) for k, t in enumerate(steps))),)
+                     + plain.events[1:])
+    figures = [phase_figure(doc) for doc in (plain, banded)]
+    labels = [[t.get_text() for t in f.axes[0].get_legend().get_texts()] for f in figures]
+    bars = [len(f.axes[0].patches) for f in figures]
+    assert not any("KSS" in label for label in labels[0]) and any("KSS" in label for label in labels[1])
+    assert bars[1] >= bars[0] + 16      # one band piece per half hour of the 8-h shift
+    for figure in figures:
+        plt.close(figure)
 
 
 def test_event_colours_stay_apart_in_greyscale():

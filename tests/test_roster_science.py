@@ -5,61 +5,31 @@ integrator and the roster metrics) and compared with the published results.  DLM
 after the protocol in dim light, as the studies measured it in a dim constant routine.
 """
 
-from datetime import date, timedelta
+from datetime import date
 from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
 
 from planner import load_model
-from planner.rosters.model import Countermeasures, Draft, Roster, RosterPlan, ShiftType, roster_days
-from planner.rosters.search import RosterEvaluator, plan_roster
-from planner.world.light import Window
+from planner.rosters.model import Draft, Roster, ShiftType
+from planner.rosters.search import plan_roster
+from planner.rosters.validation import night_protocol
 from planner.world.places import Place
 
 MODELS = ["forger1999", "jewett1999", "hannay2019"]
 #: An invented site for the protocols (laboratory studies: the place only sets daylight on commutes).
 CHICAGO = Place("Chicago", ZoneInfo("America/Chicago"), 41.88, -87.63, 23.0, 7.0)
 NIGHT = ShiftType("N", 23.0, 7.0)
-#: Dim light of a constant routine [lux] (Khalsa et al. 2003, J Physiol 549:945: 2-7 lux; a round figure).
-DIM_LUX = 5.0
 
 
 def _clock_difference(a: float, b: float) -> float:
     return (a - b + 12.0) % 24.0 - 12.0
 
 
-def _night_protocol(model_id: str, nights: int, sleep_h: tuple[float, float], *, light_h=None, lux=10_000.0,
-                    glasses=False, brake=False, commute_minutes=30.0):
-    """Consecutive 23:00-07:00 nights with fixed sleep and optional light; DLMO measured after, in dim light.
-
-    Returns the entrained DLMO before [h of day] and the DLMO after the protocol [h of day].
-    """
-    draft = Draft("protocol", ("N",) * nights + (None,), 1)
-    roster = Roster("protocol", CHICAGO, date(2027, 7, 5), (NIGHT,), (draft,), commute_minutes=commute_minutes,
-                    work_lux=150.0, indoor_lux=150.0, measures=Countermeasures())
-    evaluator = RosterEvaluator(roster, load_model(model_id))
-    days = roster_days(roster, draft)
-    commute = timedelta(minutes=commute_minutes)
-    sleep = [(roster.at(days[0].date, -1.0), roster.at(days[0].date, 7.0))]
-    bright, avoid, outdoor = [], [], []
-    for day in days[:nights]:
-        outdoor += [(day.work[0] - commute, day.work[0]), (day.work[1], day.work[1] + commute)]
-        bed, wake = roster.at(day.date, 24.0 + sleep_h[0]), roster.at(day.date, 24.0 + sleep_h[1])
-        sleep.append((bed, wake))
-        if light_h is not None:
-            bright.append(Window(roster.at(day.date, light_h[0]), roster.at(day.date, light_h[1]), lux, "light box"))
-        if glasses:
-            avoid.append(Window(day.work[1], day.work[1] + timedelta(hours=1.5), 0.15, "dark glasses"))
-        if brake:
-            bright.append(Window(wake + timedelta(hours=0.5), wake + timedelta(hours=1.0), 10_000.0, "daylight"))
-    routine_start = sleep[-1][1] + timedelta(hours=1.0 if brake else 0.0)
-    bright.append(Window(routine_start, routine_start + timedelta(hours=30), DIM_LUX, "constant routine"))
-    metrics = evaluator.evaluate(draft, [RosterPlan(tuple(sleep), tuple(bright), tuple(avoid), tuple(outdoor))],
-                                 final=True)
-    rule = evaluator.model.file.markers.dlmo
-    before = evaluator.ref.cbtmin_clock_h + (rule.offset_h if rule.rule == "cbtmin_offset" else -7.5)
-    return before % 24.0, float(metrics.dlmo[0, nights] % 24.0)
+def _night_protocol(model_id: str, nights: int, sleep_h: tuple[float, float], **options):
+    """The protocol of :func:`planner.rosters.validation.night_protocol` for a built-in model."""
+    return night_protocol(load_model(model_id), nights, sleep_h, **options)
 
 
 @pytest.mark.parametrize("model_id", MODELS)

@@ -356,6 +356,18 @@ def test_demo_json_carries_the_plan(stored_plans):
     # the papers' own bibliographic data (CNS Spectrums 10(8); PNAS 113(1):176-181)
     assert any(s.startswith("Terman M, Terman JS 2005") and "CNS Spectrums" in s for s in sources)
     assert any(s.startswith("Lee ML et al. 2016") and "PNAS 113(1):176" in s for s in sources)
+    # forger1999 advances 2.3 h in 3 gradual days where 1.4-1.9 h was measured (Eastman et al. 2005, Sleep
+    # 28:33; regression snapshot, measured here): the demo's preparation days are flagged optimistic.
+    note = document["preparation_days_note"]
+    assert trip.preparation_days > 0 and note["optimistic"] and note["model_advance_h"] > 1.9
+    # The sleepiest hour of the travel day falls near the body clock's minimum, still on Lisbon time after
+    # landing (alertness is lowest near the circadian trough: Åkerstedt & Folkard 1997, Chronobiol Int 14:115).
+    travel = [row for row in document["sleepiest_hours"] if row["kind"] == "travel"]
+    assert travel and travel[0]["mean_kss"] >= 7.0
+    cbtmin = next(d["cbtmin"] for d in document["days"] if d["date"] == travel[0]["date"])
+    gap_h = (datetime.fromisoformat(travel[0]["start"]) - datetime.fromisoformat(cbtmin)).total_seconds() / 3600
+    assert abs(gap_h) <= 4.0
+    assert {row["kind"] for row in document["sleepiest_hours"]} == {"travel", "arrival"}
 
 
 def test_trip_human_output_goes_to_stderr(stored_plans):

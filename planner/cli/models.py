@@ -13,7 +13,8 @@ from rich.table import Table
 
 from planner import service
 from planner.cli.app import PROGRAM, models_app
-from planner.cli.common import JsonOption, emit_json, print_citations, print_facts, stderr_console
+from planner.cli.common import JsonOption, emit_json, model_list, print_citations, print_facts, stderr_console
+from planner.engine.validation import optimistic_preparation
 from planner.engine.entrainment import DEFAULT_DAY
 from planner.plans.entries import clock, describe_pattern, lux_text
 
@@ -120,3 +121,43 @@ def _print_properties(console: Console, description: service.ModelDescription) -
     else:
         properties.append(("entrained", f"[bold]no[/bold] — {escape(steady.message)}"))
     print_facts(console, "Computed properties", properties)
+
+
+@models_app.command("validate", help=(
+    "Run every published check the tests hold (PRC amplitudes, dose-response ED50, pre-flight gradual advance, "
+    "compromise phase, Santhi asymmetry) for each model and print the literature value beside the model's; "
+    "recommends a default model from the table."))
+def models_validate(
+    ctx: typer.Context,
+    model_names: Annotated[str | None, typer.Option(
+        "--models", metavar="LIST", help="Comma-separated model ids or files (default: every built-in model).")
+    ] = None,
+    checks: Annotated[str | None, typer.Option(
+        "--checks", metavar="LIST",
+        help=f"Comma-separated checks (default: all of {', '.join(service.VALIDATION_CHECKS)}).")] = None,
+    json_out: JsonOption = False,
+) -> None:
+    """Validation table (help text on the decorator)."""
+    json_out = json_out or bool((ctx.obj or {}).get("json"))
+    wanted = [c.strip() for c in checks.split(",") if c.strip()] if checks else None
+    outcome = service.validate_models(model_list(model_names), wanted)
+    if json_out:
+        emit_json(outcome.to_json())
+        return
+    console = stderr_console()
+    for v in outcome.validations:
+        table = Table(box=box.SIMPLE_HEAD, title=f"{escape(v.model_id)}: {v.agreeing} of {len(v.checks)} checks agree",
+                      title_justify="left")
+        for header in ("check", "quantity", "published", "model", "band", "agrees", "source"):
+            table.add_column(header, no_wrap=header in ("check", "published", "model", "agrees"))
+        for c in v.checks:
+            high = "∞" if math.isinf(c.high) else f"{c.high:g}"
+            table.add_row(c.key, escape(c.quantity), f"{c.published:.2f}",
+                          "none" if not math.isfinite(c.model) else f"{c.model:.2f}", f"{c.low:g}–{high}",
+                          "yes" if c.agrees else "[bold]no[/bold]", escape(c.source))
+        console.print(table)
+        if optimistic_preparation(v):
+            console.print(f"  [bold]{escape(v.model_id)}: preparation-day predictions are optimistic[/bold] — it "
+                          "predicts more gradual pre-flight advance than published.")
+    console.print(f"\n[bold]Recommended default:[/bold] {escape(outcome.reason)}. Current default: "
+                  f"{outcome.to_json()['current_default']}.")

@@ -44,6 +44,7 @@ from planner.plans.entries import clock, lux_text
 from planner.plans.files import PlanFiles, write_plan_files
 from planner.plans.ics import DEFAULT_ALARM_MINUTES
 from planner.rosters.export import mean_days, pattern_text, site_hm, unadapted_runs
+from planner.rosters import sleepiness as sleepview
 from planner.rosters.model import Roster
 from planner.rosters.search import (
     ENSEMBLE_TOLERANCE_H,
@@ -57,6 +58,11 @@ from planner.rosters.search import (
 from planner.rosters.views import chart_legend, score_text, text_chart
 from planner.world.light import Window
 from planner.intervals import count_text
+
+
+class RankBy(str, Enum):
+    disruption = "disruption"
+    sleepiness = "sleepiness"
 
 
 class RosterStrategy(str, Enum):
@@ -85,13 +91,18 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
                                     f"{DUFFY2011_TAU_SD_H} h (Duffy et al. 2011), seed {seed}"))
     print_facts(console, None, facts)
 
-    ranking = Table(box=box.SIMPLE_HEAD, title="Drafts ranked, least disruptive first", title_justify="left",
+    order = "least sleepy first" if result.drafts[0].rank_by == "sleepiness" else "least disruptive first"
+    ranking = Table(box=box.SIMPLE_HEAD, title=f"Drafts ranked, {order}", title_justify="left",
                     caption=(f"score: hours per week of work within ±{LOW_HALF_WIDTH_H:g} h of CBTmin plus "
                              "biological night spent awake, " + ("population median [10th–90th percentile]" if workers
                                                                  else "average worker") +
-                             "; no plan: the same draft without light measures, average worker."), caption_justify="left")
+                             "; no plan: the same draft without light measures, average worker; KSS≥7: hours at "
+                             "work at KSS 7 or more per week and drives home at KSS 7 or more (average worker; "
+                             "three-process model of alertness, a population forecast, not a fitness-for-duty "
+                             "test)."), caption_justify="left")
     score_header = (escape(f"score h/wk, median [p10–p90] of {workers}") if workers else "score h/wk, average worker")
-    for header in ("#", "draft", "rules", "strategy", score_header, "no plan", "worst day"):
+    for header in ("#", "draft", "rules", "strategy", score_header, "no plan", "worst day", "KSS≥7 h/wk",
+                   "sleepy drives"):
         ranking.add_column(header, no_wrap=header not in ("draft", "worst day", score_header))
     parts = Table(box=box.SIMPLE_HEAD, title="What the scores are made of (average worker)", title_justify="left",
                   caption=("low: work in the circadian low; awake: biological night spent awake; out of phase: "
@@ -110,7 +121,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         ranking.add_row(str(k + 1), f"[bold]{escape(d.draft.name)}[/bold]", rules, SHORT_NAMES[d.best_strategy],
                         score_text(d),
                         f"{d.baseline.score:.1f}", f"{d.days[worst].date.strftime('%a %d %b')} "
-                        f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h")
+                        f"{escape(d.days[worst].label)}: {m.day_burden_h[0, worst]:.0f} h", *_sleepy_cells(d))
         parts.add_row(escape(d.draft.name), f"{m.work_low_h[0] / weeks:.1f}", f"{m.awake_in_night_h[0] / weeks:.1f}",
                       f"{m.sleep_out_of_phase_h[0] / weeks:.1f}",
                       NONE_TEXT if not math.isfinite(adapt) else f"{adapt:.1f} d",
@@ -219,6 +230,15 @@ def _print_ensemble(console: Console, roster: Roster, chosen: DraftResult, ensem
                       f"{low:.1f}–{high:.1f} h/wk")
 
 
+def _sleepy_cells(d: DraftResult) -> tuple[str, str]:
+    sleepiness = d.best.metrics.sleepiness
+    if sleepiness is None:
+        return NONE_TEXT, NONE_TEXT
+    brief = sleepview.summary(d.days, sleepiness)
+    return (f"{brief['hours_at_kss_7_or_more_per_week']:.1f}",
+            f"{brief['sleepy_drives_home']} of {brief['drives_home']}")
+
+
 def _source(window: Window) -> str:
     return "box" if window.source == "light box" else window.source
 
@@ -253,6 +273,10 @@ def roster_command(
         "--models", metavar="LIST", help=("Run the recommended plan under each of these models (comma-separated ids "
                                           "or files, e.g. forger1999,jewett1999,hannay2019) and show where they "
                                           "disagree."))] = None,
+    rank_by: Annotated[RankBy, typer.Option(
+        "--rank-by", case_sensitive=False,
+        help=("Rank drafts by the disruption score, or by sleepiness: hours at work at KSS 7 or more per week "
+              "(three-process model of alertness)."))] = RankBy.disruption,
     json_out: JsonOption = False,
     ics: IcsOption = None,
     report: ReportOption = None,
@@ -269,7 +293,7 @@ def roster_command(
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
-                                    model_list(models_list), group, strict=strict)
+                                    model_list(models_list), group, strict=strict, rank_by=RankBy(rank_by).value)
     run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group,
                                             alarm_kinds(alarm_for), paper))
 

@@ -246,7 +246,18 @@ def _print_trip(console: Console, outcome: service.TripOutcome) -> None:
         _print_population(console, outcome.request.people, outcome.request.seed, outcome.population)
     if outcome.ensemble is not None:
         _print_ensemble(console, trip, outcome.ensemble)
+    _print_sleepiness(console, outcome)
     print_cautions(console, cautions_for(), outcome.models_used)
+
+
+def _print_sleepiness(console: Console, outcome: service.TripOutcome) -> None:
+    if outcome.preparation_note is not None:
+        console.print(f"[bold]Preparation days:[/bold] {escape(outcome.preparation_note['text'])}")
+    sleepiest = [row for row in outcome.sleepiest_hours if row["start"]]
+    if sleepiest:
+        console.print("[bold]Sleepiest hours[/bold] (KSS 1-9, three-process model; a population forecast): " +
+                      "; ".join(f"{row['date']} {row['kind']} {row['start'][11:16]}–{row['end'][11:16]} "
+                                f"KSS {row['mean_kss']:.1f}" for row in sleepiest))
 
 
 def _percent(value: float) -> str:

@@ -26,6 +26,7 @@ from planner.engine.markers import (
 )
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
+from planner.world.daylight import noon_daylight
 from planner.world.light import LightLayer, LightOptions, LightSchedule, ambient, sleep
 from planner.world.places import Place
 
@@ -263,6 +264,12 @@ BASELINE_OUTDOOR_H = 1.0
 
 
 def place_pattern(place: Place, light: LightOptions) -> DailyPattern:
-    """The habitual day at a place: its sleep, indoor light and an hour of midday daylight."""
+    """The habitual day at a place: its sleep, indoor light and an hour of midday daylight.
+
+    The day has no date, so its midday daylight is that of the equinox sun at the place's latitude with
+    ``light``'s sky, exposure and cap (:func:`planner.world.daylight.noon_daylight`).
+    """
     half = BASELINE_OUTDOOR_H / 2
-    return DailyPattern(place.bed_h, place.wake_h, light.indoor_lux, ((12.0 - half, 12.0 + half, light.daylight_lux),))
+    lux = noon_daylight(place.latitude, BASELINE_OUTDOOR_H, sky=light.sky, exposure=light.daylight_exposure,
+                        cap_lux=light.daylight_lux)
+    return DailyPattern(place.bed_h, place.wake_h, light.indoor_lux, ((12.0 - half, 12.0 + half, lux),))

@@ -115,6 +115,24 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "After a night shift, plan another way home than driving yourself.",
     ),
     Caution(
+        "sleepiness_forecast",
+        "Sleepiness forecasts",
+        "The sleepiness figures (KSS, hours at KSS 7 or more, sleepy drives home) come from the three-process "
+        "model of alertness for an average worker with the planned sleep: a population model for comparing "
+        "rosters, not a fitness-for-duty test. A worker who feels sleepy is sleepy whatever the forecast says. "
+        "The employer's fatigue-risk management, working-time rules and local regulations come first.",
+        ("Åkerstedt & Folkard 1997, Chronobiol Int 14:115", "project policy"),
+        "Sleepiness forecast for an average worker, not a fitness-for-duty test; fatigue rules come first.",
+    ),
+    Caution(
+        "daylight_model",
+        "Daylight is a model mean",
+        "Daylight in the plan follows the sun's height and the chosen sky (IES daylight availability model); a "
+        "real day can give half or twice as much, and much less under heavy cloud or in deep shade.",
+        ("IES 1984, J Illum Eng Soc 13:381",),
+        "Daylight levels are model means for the chosen sky; real days vary.",
+    ),
+    Caution(
         "clinician",
         "Every plan defers to a clinician",
         "This plan is a model prediction, not medical advice. It defers to a licensed clinician, to the "
@@ -135,11 +153,12 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
 
 #: The cautions a trip plan shows, in order.
 TRIP_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss", "melatonin",
-                                  "clinician")
+                                  "daylight_model", "clinician")
 
 #: The cautions a shift-rotation plan shows, in order.
 SHIFT_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss",
-                                   "night_shift_driving", "clinician", "fatigue_rules")
+                                   "night_shift_driving", "sleepiness_forecast", "daylight_model", "clinician",
+                                   "fatigue_rules")
 
 #: The caution a calendar event carries by default, by kind; bright light from daylight carries "daylight"
 #: instead (:func:`event_caution`); a work event names its own (a night shift's driving caution).

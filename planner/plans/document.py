@@ -70,6 +70,9 @@ class PlanEvent:
     caution : str or None
         Key of the caution (:data:`planner.plans.cautions.CAUTIONS`) this event carries in calendars;
         None for the default of its kind and light source (:func:`planner.plans.cautions.event_caution`).
+    kss : tuple of (datetime, float)
+        Forecast sleepiness along a work event (instants in UTC, Karolinska Sleepiness Scale 1-9); empty
+        when none (charted as a band along the shift, not written to calendars).
     """
 
     kind: EventKind
@@ -86,6 +89,7 @@ class PlanEvent:
     key: str
     transmission: float | None = None
     caution: str | None = None
+    kss: tuple = ()
 
     def __post_init__(self):
         if self.start.tzinfo is None or self.end.tzinfo is None:

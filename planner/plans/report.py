@@ -54,6 +54,11 @@ CBTMIN_STYLE = {"marker": "D", "color": "#c2402e", "markeredgecolor": "black", "
 TARGET_STYLE = {"marker": "o", "markerfacecolor": "white", "markeredgecolor": "black", "markersize": 6.5,
                 "markeredgewidth": 1.3}
 BAND_COLOR = "#555555"
+#: The sleepiness band along shifts: KSS from 3 (alert, green) to 9 (fighting sleep, red); KSS 7 is
+#: "sleepy, but no effort to stay awake" (Åkerstedt & Gillberg 1990, Int J Neurosci 52:29).
+KSS_COLORMAP = "RdYlGn_r"
+KSS_RANGE = (3.0, 9.0)
+KSS_BAND_OFFSET, KSS_BAND_HEIGHT = 0.40, 0.16
 
 #: Chart size: width fits an A4 or Letter page with margins [inch]; height grows per day row [inch].
 CHART_WIDTH_IN = 7.0
@@ -108,6 +113,22 @@ def _marker(moment: datetime | None, zone: tzinfo) -> tuple[date, float] | None:
     return at.date(), _clock_h(at)
 
 
+def _draw_kss(axes, document: PlanDocument, index: dict) -> bool:
+    """A thin band under each work bar coloured by the forecast KSS; whether any was drawn."""
+    colors = plt.get_cmap(KSS_COLORMAP)
+    low, high = KSS_RANGE
+    drawn = False
+    for event in document.events:
+        for (t0, k0), (t1, _) in zip(event.kss, event.kss[1:]):
+            colour = colors(min(max((k0 - low) / (high - low), 0.0), 1.0))
+            for day, a, b in _pieces(t0, t1, event.zone):
+                if day in index and b > a:
+                    axes.barh(index[day] + KSS_BAND_OFFSET, b - a, left=a, height=KSS_BAND_HEIGHT, color=colour,
+                              linewidth=0, zorder=4)
+                    drawn = True
+    return drawn
+
+
 def phase_figure(document: PlanDocument):
     """The phase chart as a matplotlib Figure (see the module docstring)."""
     dates = _row_dates(document)
@@ -130,6 +151,7 @@ def phase_figure(document: PlanDocument):
                       hatch=style["hatch"], linewidth=0.6, zorder=2 if event.kind in ("sleep", "work") else 3)
         if event.kind not in kinds_drawn:
             kinds_drawn.append(event.kind)
+    has_kss = _draw_kss(axes, document, index)
     has_band = False
     for row in document.days:
         if row.band is not None and row.date in index and all(math.isfinite(v) for v in row.band):
@@ -169,6 +191,10 @@ def phase_figure(document: PlanDocument):
     handles.append(Line2D([], [], linestyle="none", label="target CBTmin", **TARGET_STYLE))
     if has_band:
         handles.append(Line2D([], [], color=BAND_COLOR, linewidth=2.4, label="CBTmin 10th–90th percentile"))
+    if has_kss:
+        colors = plt.get_cmap(KSS_COLORMAP)
+        handles.append(Patch(facecolor=colors(0.9), edgecolor=colors(0.1), linewidth=2,
+                             label="KSS along shift (3 green … 9 red)"))
     axes.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 1.0), ncol=min(4, len(handles)),
                 fontsize=7.5, frameon=False)
     for side in ("top", "right"):

@@ -14,7 +14,8 @@ import numpy as np
 from planner.engine.parameters import ModelSpec
 from planner.engine.population import DUFFY2011_TAU_MEAN_H, DUFFY2011_TAU_SD_H
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
-from planner.plans.entries import citation_entry, clock, model_entry, number, hours, whole_minutes, window_entry
+from planner.plans.entries import citation_entry, clock, hours, model_entry, number, whole_minutes, window_entry
+from planner.rosters import sleepiness as sleepview
 from planner.rosters.model import Roster
 from planner.rosters.rules import RULE_SOURCES
 from planner.rosters.scenario import OFF, RosterInfo
@@ -84,7 +85,16 @@ def metrics_entry(roster: Roster, result: DraftResult, outcome: StrategyOutcome)
         "candidates_searched": outcome.candidates,
         "settings": {name: value for name, value in outcome.plan.settings},
         "settings_text": describe_settings(outcome.plan),
+        "sleepiness": sleepiness_entry(days, m.sleepiness, roster.site.zone),
     }
+
+
+def sleepiness_entry(days, sleepiness, zone) -> dict[str, Any] | None:
+    """A plan's sleepiness forecast: a summary and one row per shift (:mod:`planner.rosters.sleepiness`)."""
+    if sleepiness is None:
+        return None
+    return {"summary": sleepview.summary(days, sleepiness),
+            "shifts": sleepview.shift_rows(days, sleepiness, days[0].start, zone)}
 
 
 def population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | None:
@@ -103,6 +113,8 @@ def population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | No
         "night_runs_not_adapted_fraction": number(pop.night_runs_unadapted),
         "daily_cbtmin_clock_h": [{"date": day.date.isoformat(), "p10": number(row[0]), "median": number(row[1]),
                                   "p90": number(row[2])} for day, row in zip(result.days, pop.cbtmin_clock_h)],
+        "sleepiness": None if pop.metrics.sleepiness is None else
+        sleepview.population_summary(result.days, pop.metrics.sleepiness),
     }
 
 
@@ -221,13 +233,16 @@ def roster_document(roster: Roster, info: RosterInfo, model: ModelSpec, result: 
                                 "carried along with the current CBTmin",
             "adapted": "the day's CBTmin falls inside a sleep episode",
             "rank_score_h_per_week": "population median score when people > 0, else the average worker's; "
-                                     "drafts breaking working-time rules rank after every conforming draft",
+                                     "drafts breaking working-time rules rank after every conforming draft; with --rank-by "
+                                     "sleepiness: hours at work at KSS >= 7 per week instead",
             "status": "0 when every draft has a finite score, 1 when some draft has no CBTmin on some days",
             "burden_h": "the day's share of the disruption score: hours of work within ±3 h of CBTmin plus hours "
                         "of biological night spent awake on that day, for the average worker",
             "people": "size of the simulated population (0: the average worker only)",
             "days": "the chosen draft's days for the average worker of a crew starting the pattern on its first day",
+            "sleepiness": sleepview.SLEEPINESS_NOTE,
         },
+        "rank_by": result.drafts[0].rank_by,
     }
 
 

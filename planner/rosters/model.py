@@ -24,8 +24,12 @@ from typing import Literal
 from planner.engine.entrainment import BASELINE_OUTDOOR_H
 from planner.engine.markers import HOURS_PER_DAY
 from planner.intervals import free_segments
+from planner.world.daylight import daylight_for
 from planner.world.light import (
+    DEFAULT_EXPOSURE,
+    DEFAULT_SKY,
     LightLayer,
+    LightOptions,
     LightSchedule,
     Window,
     ambient,
@@ -217,7 +221,10 @@ class Roster:
     drafts : tuple of Draft
     commute_minutes : float  [min] each way
     sleep_hours : float  [h] main sleep the workers aim for on work days
-    work_lux, indoor_lux, daylight_lux, night_outdoor_lux : float  [lux]
+    work_lux, indoor_lux, night_outdoor_lux : float  [lux]
+    daylight_lux : float or None  [lux] cap on daylight at the eye (None: as the sky gives it)
+    sky, daylight_exposure : str
+        Sky type and exposure of the daylight model (:mod:`planner.world.daylight`).
     measures : Countermeasures
     crew_size : int
         Workers the roster is for (informative; population runs draw their own number).
@@ -236,12 +243,20 @@ class Roster:
     sleep_hours: float = 7.5
     work_lux: float = 300.0
     indoor_lux: float = 150.0
-    daylight_lux: float = 10_000.0
+    daylight_lux: float | None = None
     night_outdoor_lux: float = DEFAULT_NIGHT_OUTDOOR_LUX
     measures: Countermeasures = field(default_factory=Countermeasures)
     crew_size: int = 1
     crews: tuple[Crew, ...] = ()
     rules: WorkingTimeRules = field(default_factory=WorkingTimeRules)
+    sky: str = DEFAULT_SKY
+    daylight_exposure: str = DEFAULT_EXPOSURE
+
+    @property
+    def light(self) -> LightOptions:
+        """The daylight settings as the trip planner's light options (indoor, daylight model)."""
+        return LightOptions(indoor_lux=self.indoor_lux, daylight_lux=self.daylight_lux, sky=self.sky,
+                            daylight_exposure=self.daylight_exposure)
 
     def shift(self, code: str) -> ShiftType:
         return next(s for s in self.shifts if s.code == code)
@@ -379,17 +394,19 @@ def roster_schedule(roster: Roster, draft: Draft, plan: RosterPlan) -> LightSche
         half = timedelta(hours=BASELINE_OUTDOOR_H / 2)
         for a, b in free_segments(noon - half, noon + half, busy + list(plan.outdoor)):
             for s, e in sunlit(roster, draft, a, b):
-                layers.append(ambient(s, e, roster.daylight_lux, "daylight"))
+                layers.extend(daylight_for(roster.light, roster.site, s, e))
     for a, b in (span for span in plan.outdoor if span[1] > span[0]):   # a zero-minute commute is no outing
         layers.append(ambient(a, b, roster.night_outdoor_lux, "street light"))
         for s, e in sunlit(roster, draft, a, b):
-            layers.append(ambient(s, e, roster.daylight_lux, "daylight"))
+            layers.extend(daylight_for(roster.light, roster.site, s, e))
     for day in days:
         if day.work is not None:
             layers.append(ambient(*day.work, roster.work_lux, "work"))
     for window in plan.bright:
         if window.source == "light box":
             layers.append(light_box(window.start, window.end, window.lux))
+        elif window.source == "daylight":
+            layers.extend(daylight_for(roster.light, roster.site, window.start, window.end))
         else:
             layers.append(ambient(window.start, window.end, window.lux, window.source))
     for window in plan.avoid:

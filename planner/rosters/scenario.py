@@ -36,7 +36,9 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     [light]
     indoor_lux = 150                       # at home while awake
     work_lux = 300                         # at work
-    daylight_lux = 10000                   # outdoors while the sun is up
+    sky = "overcast"                       # daylight model's sky: clear, partly or overcast
+    daylight_exposure = "open"             # outdoors in the open, in shade, or behind a window
+    # daylight_lux = 20000                 # optional cap on daylight at the eye
     night_outdoor_lux = 10                 # outdoors after dark (street lighting)
 
     [countermeasures]
@@ -125,7 +127,9 @@ class WorkersEntry(StrictEntry):
 class RosterLightEntry(StrictEntry):
     indoor_lux: float = Field(150.0, ge=0.0, allow_inf_nan=False)
     work_lux: float = Field(300.0, ge=0.0, allow_inf_nan=False)
-    daylight_lux: float = Field(10_000.0, ge=0.0, allow_inf_nan=False)
+    daylight_lux: float | None = Field(None, ge=0.0, allow_inf_nan=False)   # cap; None: as the sky gives it
+    sky: Literal["clear", "partly", "overcast"] = "overcast"
+    daylight_exposure: Literal["open", "shade", "window"] = "open"
     night_outdoor_lux: float = Field(10.0, ge=0.0, allow_inf_nan=False)
 
 
@@ -294,6 +298,7 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
     roster = Roster(spec.name, site, spec.start_date, tuple(shifts), tuple(drafts),
                     commute_minutes=spec.workers.commute_minutes, sleep_hours=spec.workers.sleep_hours,
                     work_lux=light.work_lux, indoor_lux=light.indoor_lux, daylight_lux=light.daylight_lux,
+                    sky=light.sky, daylight_exposure=light.daylight_exposure,
                     night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count,
                     crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews),
                     rules=WorkingTimeRules(**spec.rules.model_dump()))

@@ -69,6 +69,14 @@ from planner.engine.population import (
     simulate_population,
     spread,
 )
+from planner.engine.sleepiness import (
+    ShiftSleepiness,
+    acrophase_after_cbtmin,
+    load_alertness_model,
+    plan_sleep,
+    shift_sleepiness,
+    steady_s,
+)
 from planner.errors import ComputationError, InputError
 from planner.intervals import free_segments
 from planner.rosters.model import (
@@ -82,11 +90,14 @@ from planner.rosters.model import (
     roster_schedule,
     sunlit,
 )
-from planner.rosters.rules import breaches_text, check_draft
-from planner.world.light import LightOptions, Window, hours_between
 from planner.intervals import count_text
+from planner.rosters.rules import breaches_text, check_draft
+from planner.world.daylight import mean_daylight_for
+from planner.world.light import Window, hours_between
 
 Strategy = Literal["nights", "compromise", "day"]
+#: What drafts can be ranked by (``plan_roster(rank_by=...)``).
+RANK_BY = ("disruption", "sleepiness")
 STRATEGIES: tuple[Strategy, ...] = ("nights", "compromise", "day")
 #: Strategy names say what the plan aims at, not what it achieves (the outcome columns say that).
 STRATEGY_NAMES = {"nights": "aims at full adaptation to nights", "compromise": "aims at a compromise phase position",
@@ -352,7 +363,7 @@ def _add_daylight(roster: Roster, draft: Draft, windows: list, start: datetime, 
         if any(_overlaps((a, b), d.work) for d in days if d.work is not None):
             continue
         if hours_between(a, b) * 60.0 >= 10.0:
-            windows.append(Window(a, b, roster.daylight_lux, "daylight"))
+            windows.append(Window(a, b, mean_daylight_for(roster.light, roster.site, a, b), "daylight"))
 
 
 def candidate_settings(roster: Roster, strategy: Strategy) -> list[Settings]:
@@ -423,6 +434,9 @@ class Metrics:
     runs : list of Run
     min_amplitude_ratio : ndarray, shape (N,)
         Lowest oscillator amplitude over the draft relative to the entrained amplitude.
+    sleepiness : ShiftSleepiness, optional
+        The three-process model's sleepiness on each shift and drive home (:mod:`planner.engine.sleepiness`);
+        its columns are the work days in order.
     """
 
     score: np.ndarray
@@ -437,6 +451,7 @@ class Metrics:
     days_to_adapt: np.ndarray
     runs: list
     min_amplitude_ratio: np.ndarray
+    sleepiness: ShiftSleepiness | None = None
 
     @property
     def worst_day(self) -> np.ndarray:
@@ -449,7 +464,8 @@ class Metrics:
         return Metrics(self.score[pick], self.work_low_h[pick], self.sleep_out_of_phase_h[pick],
                        self.awake_in_night_h[pick], self.cbtmin[pick],
                        self.dlmo[pick], self.work_low_day_h[pick], self.day_burden_h[pick], self.adapted[pick], self.days_to_adapt[pick],
-                       self.runs, self.min_amplitude_ratio[pick])
+                       self.runs, self.min_amplitude_ratio[pick],
+                       None if self.sleepiness is None else self.sleepiness.column(j))
 
 
 def _padded(times: list[np.ndarray]) -> np.ndarray:
@@ -480,6 +496,7 @@ class Reference:
     bed_from_cbtmin_h: float    # habitual bedtime minus CBTmin [h], negative
     wake_from_cbtmin_h: float   # habitual wake minus CBTmin [h]
     amplitude: float
+    alertness_lag_h: float = math.nan   # alertness peak after CBTmin [h] (planner.engine.sleepiness)
 
 
 def reference(roster: Roster, model: ModelSpec) -> Reference:
@@ -490,8 +507,7 @@ def reference(roster: Roster, model: ModelSpec) -> Reference:
     so that a few drawn workers at the edge of the range of entrainment (long period, low light
     sensitivity) keep the state that gives them instead of failing the run.
     """
-    light = LightOptions(indoor_lux=roster.indoor_lux, daylight_lux=roster.daylight_lux)
-    pattern = place_pattern(roster.site, light)
+    pattern = place_pattern(roster.site, roster.light)
     if model_batch_size(model) > 1:
         steady = entrain_people(model, pattern)
     else:
@@ -503,7 +519,8 @@ def reference(roster: Roster, model: ModelSpec) -> Reference:
     bed = (roster.site.bed_h - cbt + HOURS_PER_DAY / 2) % HOURS_PER_DAY - HOURS_PER_DAY / 2
     wake = bed + (roster.site.wake_h - roster.site.bed_h) % HOURS_PER_DAY
     amplitude = float(np.nanmedian(model.family.amplitude(steady.state[:2])))
-    return Reference(steady.state, cbt, bed, wake, amplitude)
+    lag = acrophase_after_cbtmin(model) if model_batch_size(model) == 1 else math.nan
+    return Reference(steady.state, cbt, bed, wake, amplitude, lag)
 
 
 def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, ref: Reference) -> Metrics:
@@ -577,7 +594,31 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     work_low = low.sum(axis=1)
     score = (work_low + awake_in_night) * 7.0 / len(days)
     amplitude = model_amplitude_ratio(result, ref)
-    return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted, to_adapt, runs, amplitude)
+    sleepiness = _sleepiness(roster, plans, size, epoch, cbt, w0, w1, bounds[-1], ref)
+    return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted,
+                   to_adapt, runs, amplitude, sleepiness)
+
+
+def _sleepiness(roster: Roster, plans: Sequence[RosterPlan], size: int, epoch: datetime, cbt: np.ndarray,
+                w0: np.ndarray, w1: np.ndarray, span_h: float, ref: Reference) -> ShiftSleepiness | None:
+    """The three-process model on every shift; Process S is computed once per distinct plan."""
+    if not math.isfinite(ref.alertness_lag_h):
+        return None
+    model = load_alertness_model()
+    distinct: dict[int, int] = {}
+    unique: list[RosterPlan] = []
+    for plan in plans:
+        if id(plan) not in distinct:
+            distinct[id(plan)] = len(unique)
+            unique.append(plan)
+    sleeps = [(np.array([hours_between(epoch, a) for a, _ in plan.sleep]),
+               np.array([hours_between(epoch, b) for _, b in plan.sleep])) for plan in unique]
+    # The epoch is local midnight of the first day: S starts at the habitual day's value there.
+    s0 = steady_s(roster.site.bed_h, roster.site.wake_h, 0.0, model)
+    plan_s = plan_sleep(sleeps, span_h, s0, model)
+    column_plan = np.array([distinct[id(plans[j if len(plans) > 1 else 0])] for j in range(size)])
+    return shift_sleepiness(plan_s, column_plan, cbt, ref.alertness_lag_h, w0, w1, roster.commute_minutes / 60.0,
+                            model)
 
 
 def model_amplitude_ratio(result, ref: Reference) -> np.ndarray:
@@ -645,6 +686,7 @@ class PopulationSummary:
     night_runs_unadapted: float      # fraction of (worker, night run) pairs never adapted
     cbtmin_clock_h: np.ndarray       # (D, 3): p10, median, p90 of each day's CBTmin on the local clock [h]
     metrics: Metrics = field(repr=False)
+    sleepy_hours_per_week: dict | None = None   # hours at work at KSS >= 7 per 7 days (planner.engine.sleepiness)
 
 
 @dataclass(frozen=True)
@@ -695,6 +737,7 @@ class DraftResult:
     population: PopulationSummary | None
     robust: RobustChoice | None = None
     #: Working-time rules the draft breaks (:mod:`planner.rosters.rules`); empty when it conforms.
+    rank_by: str = "disruption"
     breaches: tuple = ()
 
     @property
@@ -711,10 +754,24 @@ class DraftResult:
 
     @property
     def rank_score(self) -> float:
-        """What drafts are ranked by: the population's median score, else the average worker's."""
+        """What drafts are ranked by: the population's median, else the average worker's, of the disruption
+        score or (``rank_by == "sleepiness"``) of the hours at work at KSS >= 7 per week."""
+        if self.rank_by == "sleepiness":
+            if self.population is not None and self.population.sleepy_hours_per_week is not None:
+                return float(self.population.sleepy_hours_per_week["median"])
+            sleepiness = self.best.metrics.sleepiness
+            return math.nan if sleepiness is None else float(sleepiness.sleepy_hours_per_week(len(self.days))[0])
         if self.population is not None:
             return float(self.population.score["median"])
         return self.best.score
+
+    @property
+    def tie_break(self) -> float:
+        """Second ranking key under ``rank_by == "sleepiness"``: the mean of each shift's highest KSS."""
+        sleepiness = self.best.metrics.sleepiness
+        if self.rank_by != "sleepiness" or sleepiness is None or not np.isfinite(sleepiness.peak_kss).any():
+            return 0.0
+        return float(np.nanmean(sleepiness.peak_kss[0]))
 
 
 @dataclass(frozen=True)
@@ -768,10 +825,12 @@ def _summarise_population(roster: Roster, draft: Draft, metrics: Metrics, popula
     counts = adapted.sum(axis=1)
     mean_days = np.where(counts > 0, np.where(adapted, metrics.days_to_adapt, 0.0).sum(axis=1) / np.maximum(counts, 1),
                          np.nan)
+    sleepy = None if metrics.sleepiness is None else \
+        _floats(spread(metrics.sleepiness.sleepy_hours_per_week(len(days))))
     return PopulationSummary(population.size, int(population.seed or 0), _floats(spread(population.tau_h)),
                              _floats(spread(metrics.score)), _floats(spread(metrics.work_low_h)),
                              _floats(spread(metrics.sleep_out_of_phase_h)), _floats(spread(mean_days)),
-                             unadapted, bands, metrics)
+                             unadapted, bands, metrics, sleepy)
 
 
 def _floats(values: dict) -> dict:
@@ -909,7 +968,7 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
 
 def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | Strategy = "auto", *,
                 workers: int = 0, seed: int = 0, robust: bool = False, strict: bool = False,
-                sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN,
+                sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN, rank_by: str = "disruption",
                 progress: Callable[[int, int, str], None] | None = None) -> RosterResult:
     """Plan every draft of a roster and rank the drafts.
 
@@ -932,9 +991,14 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
     strict : bool
         Refuse (InputError) a roster with any draft breaking the working-time rules
         (:mod:`planner.rosters.rules`); without it such drafts are planned and ranked last.
+    rank_by : {"disruption", "sleepiness"}
+        What drafts are ranked by: the disruption score, or the hours at work at KSS >= 7 per week
+        (ties broken by the mean of each shift's highest KSS; :mod:`planner.engine.sleepiness`).
     progress : callable(done, total, label), optional
         Called after each step of work (the CLI draws a progress bar with it).
     """
+    if rank_by not in RANK_BY:
+        raise InputError(f"unknown ranking {rank_by!r}; allowed: {', '.join(RANK_BY)}", field="rank_by")
     if strategy != "auto" and strategy not in STRATEGIES:
         raise InputError(f"unknown strategy {strategy!r}; allowed: auto, {', '.join(STRATEGIES)}", field="strategy")
     if not isinstance(workers, (int, np.integer)) or workers < 0:
@@ -983,11 +1047,11 @@ def plan_roster(roster: Roster, model: ModelSpec, strategy: Literal["auto"] | St
             summary = _summarise_population(roster, draft, metrics, population, period(roster, draft)[0])
             tick(f"simulated {population.size} workers on {draft.name}")
         results.append(DraftResult(draft, roster_days(roster, draft), baseline, outcomes, chosen, summary,
-                                   robust_choice, tuple(breaches[draft.name])))
+                                   robust_choice, tuple(breaches[draft.name]), rank_by))
     finite = all(math.isfinite(r.rank_score) for r in results)
     # every draft that keeps the working-time rules ranks before every draft that breaks them
     ranked = sorted(results, key=lambda r: (not r.conforms, r.rank_score if math.isfinite(r.rank_score) else math.inf,
-                                            roster.drafts.index(r.draft)))
+                                            r.tie_break, roster.drafts.index(r.draft)))
     reason = ranking_reason(ranked)
     message = (f"{count_text(len(ranked), 'draft')} planned; least disruptive: {ranked[0].draft.name}" if finite else
                "some drafts have no finite disruption score (no CBTmin predicted on some days)")
@@ -1026,6 +1090,15 @@ def within_spread(a: DraftResult, b: DraftResult) -> bool | None:
 
 def _score_reason(ranked: Sequence[DraftResult]) -> str:
     first = ranked[0]
+    if first.rank_by == "sleepiness":
+        what = "median worker" if first.population is not None else "average worker"
+        text = (f"{first.draft.name} with {STRATEGY_NAMES[first.best_strategy]} leaves the fewest hours at work at "
+                f"KSS 7 or more: {first.rank_score:.1f} h per week for the {what} (mean highest KSS per shift "
+                f"{first.tie_break:.1f})")
+        if len(ranked) > 1:
+            text += ", against " + "; ".join(f"{r.draft.name} {r.rank_score:.1f} h (KSS {r.tie_break:.1f})"
+                                             for r in ranked[1:])
+        return text
     text = (f"{first.draft.name} with the plan that {STRATEGY_NAMES[first.best_strategy]} disrupts least: "
             f"{first.rank_score:.1f} h per week of work in the circadian low or biological night spent awake for "
             f"{whose_score(first)}")

@@ -15,6 +15,7 @@ import numpy as np
 from planner.engine.population import DUFFY2011_CITATION
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section, stable_id
+from planner.rosters import sleepiness as sleepview
 from planner.rosters.model import Draft, Roster, RosterDay, RosterPlan, crew_draft, roster_days
 from planner.rosters.search import (
     ANCHOR_SLEEP_H,
@@ -173,19 +174,24 @@ def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
             f"Go outdoors in daylight for {minutes} min (about {window.lux:,.0f} lux); no sunglasses.", purpose)
 
 
-def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None) -> list[PlanEvent]:
+def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None,
+                 sleepiness_notes: dict | None = None, profiles: dict | None = None) -> list[PlanEvent]:
     days = roster_days(roster, draft)
     zone = roster.site.zone
     items = []
+    notes = sleepiness_notes or {}
+    profiles = profiles or {}
     for day in days:
         if day.work is not None:
             shift = day.shift
             items.append((day.work, day.date, dict(
                 kind="work", summary=f"Shift {shift.code} ({shift.label})",
                 action=f"Work the {shift.label} shift ({shift.kind}).",
-                purpose="Your rostered shift; the light and sleep around it follow the plan.",
+                purpose="Your rostered shift; the light and sleep around it follow the plan."
+                        + (f" {notes[day.date]}" if day.date in notes else ""),
                 source=shift.label, lux=float(roster.work_lux), transmission=None,
-                caution="night_shift_driving" if shift.kind == "night" else None)))
+                caution="night_shift_driving" if shift.kind == "night" else None,
+                kss=profiles.get(day.date, ()))))
     for a, b in plan.sleep:
         owner = _owner(days, a, NIGHT_BELONGS_BACK)
         if owner is None:
@@ -288,6 +294,22 @@ def crew_plan_of(roster: Roster, chosen, crew) -> tuple[Draft, RosterPlan]:
     return draft, crew_plan
 
 
+def _profiles(chosen) -> dict:
+    """KSS along each shift of the chosen plan, by local date (for the report chart's sleepiness band)."""
+    sleepiness = chosen.best.metrics.sleepiness
+    return {} if sleepiness is None else sleepview.shift_profiles(chosen.days, sleepiness, chosen.days[0].start)
+
+
+def _night_notes(chosen, zone) -> dict:
+    """Night shifts' sleepiness lines for calendar descriptions, by local date (:mod:`planner.rosters.sleepiness`)."""
+    sleepiness = chosen.best.metrics.sleepiness
+    if sleepiness is None:
+        return {}
+    rows = sleepview.shift_rows(chosen.days, sleepiness, chosen.days[0].start, zone)
+    return {day.date: sleepview.night_description(row)
+            for day, row in zip(sleepview.work_days(chosen.days), rows) if row["kind"] == "night"}
+
+
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
     """Where CBTmin belongs for the main sleep nearest it (naps left out): that sleep's wake less the
     habitual wake-to-CBTmin gap, i.e. where the habitual sleep holds it."""
@@ -325,8 +347,12 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
             draft, crew_plan = crews[crew.name].draft, crews[crew.name].plan
         else:
             draft, crew_plan = crew_plan_of(roster, chosen, crew)
+        # The sleepiness forecast belongs to the plan simulated for the chosen draft itself.
+        own = crew_plan is plan and draft is chosen.draft
+        notes = _night_notes(chosen, roster.site.zone) if own else None
+        profiles = _profiles(chosen) if own else None
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
-                                                                 crew.name if crew else None))
+                                                                 crew.name if crew else None, notes, profiles))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
     bands = chosen.population.cbtmin_clock_h if chosen.population is not None else None
     rows = _day_rows(roster, plan, views, result.reference, bands)

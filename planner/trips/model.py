@@ -26,6 +26,7 @@ from planner.engine.markers import HOURS_PER_DAY
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
 from planner.intervals import free_segments
+from planner.world.daylight import daylight_for
 from planner.world.light import (
     LightLayer,
     LightOptions,
@@ -337,7 +338,7 @@ def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
         b = local_noon + timedelta(hours=BASELINE_OUTDOOR_H / 2)
         for start, end in daylight_within(trip, place, a, b):
             if where_at(trip, start) == place and where_at(trip, end) == place:
-                layers.append(ambient(start, end, trip.light.daylight_lux, "daylight"))
+                layers.extend(daylight_for(trip.light, place, start, end))
     return tuple(layers)
 
 
@@ -347,6 +348,8 @@ def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
     for window in plan.bright:
         if window.source == "light box":
             layers.append(light_box(window.start, window.end, window.lux))
+        elif window.source == "daylight" and where_at(trip, window.start) is not None:
+            layers.extend(daylight_for(trip.light, where_at(trip, window.start), window.start, window.end))
         else:
             layers.append(ambient(window.start, window.end, window.lux, window.source))
     layers.extend(_cabin_layers(trip))

@@ -151,9 +151,11 @@ class LightEntry(StrictEntry):
     box_max_minutes: float = Field(60.0, ge=0.0, le=24 * 60, allow_inf_nan=False)
     glasses_transmission: float = Field(0.1, ge=0.0, le=1.0, allow_inf_nan=False)
     daylight: bool = True
-    daylight_lux: float = Field(10_000.0, ge=0.0, allow_inf_nan=False)
+    daylight_lux: float | None = Field(None, ge=0.0, allow_inf_nan=False)   # cap; None: as the sky gives it
     daylight_max_minutes: float = Field(120.0, ge=0.0, le=24 * 60, allow_inf_nan=False)
     cabin_lux: float = Field(50.0, ge=0.0, allow_inf_nan=False)
+    sky: Literal["clear", "partly", "overcast"] = "overcast"
+    daylight_exposure: Literal["open", "shade", "window"] = "open"
 
 
 class BusyEntry(StrictEntry):

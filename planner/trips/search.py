@@ -60,6 +60,7 @@ from planner.trips.model import (
     trip_days,
     where_at,
 )
+from planner.world.daylight import mean_daylight_for
 from planner.world.light import Window, hours_between
 from planner.world.places import Place
 from planner.intervals import count_text
@@ -370,7 +371,7 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
             sunny += daylight_within(trip, place, s, e)
         segments = sunny
     if source == "daylight":
-        cap, lux = light.daylight_max_minutes, light.daylight_lux
+        cap, lux = light.daylight_max_minutes, None
     elif source == "light box":
         cap, lux = light.box_max_minutes, light.box_lux
     else:
@@ -382,6 +383,8 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     e = min(e, s + timedelta(minutes=cap))
     if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
         return None
+    if lux is None:   # daylight follows the sun; the window shows its mean (planner.world.daylight)
+        lux = mean_daylight_for(light, place, s, e)
     return Window(s, e, lux, source)
 
 

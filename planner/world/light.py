@@ -343,10 +343,11 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
                      levels, level_index)
 
 
-#: Typical outdoor illuminance used for "daylight" when nothing better is known [lux]
-#: (overcast to bright daylight spans ~1,000-100,000 lux; 10,000 is the usual round figure;
-#: common practice, no single source).
-DEFAULT_DAYLIGHT_LUX = 10_000.0
+#: The sky plans assume unless told otherwise (:mod:`planner.world.daylight`): the IES overcast sky, the
+#: dimmest of the three, so a plan does not count on sunshine that may not come (a design choice of this planner).
+DEFAULT_SKY = "overcast"
+#: How outdoor time is spent unless told otherwise: in the open.
+DEFAULT_EXPOSURE = "open"
 
 
 #: Cabin illuminance on a flight while awake [lux] (dimmed cabin and window shades; invented default,
@@ -365,9 +366,11 @@ class LightOptions:
     box_max_minutes : float  [min/day]
     glasses_transmission : float  [0..1] dark glasses
     daylight : bool  whether outdoor daylight may be prescribed
-    daylight_lux : float  [lux]
+    daylight_lux : float or None  [lux] cap on daylight at the eye (None: as the sky gives it)
     daylight_max_minutes : float  [min/day] prescribed outdoor time
     cabin_lux : float  [lux]
+    sky : {"clear", "partly", "overcast"}  sky type of the daylight model (:mod:`planner.world.daylight`)
+    daylight_exposure : {"open", "shade", "window"}  how outdoor time is spent
     """
 
     indoor_lux: float = 150.0
@@ -375,9 +378,11 @@ class LightOptions:
     box_max_minutes: float = 60.0
     glasses_transmission: float = 0.1
     daylight: bool = True
-    daylight_lux: float = DEFAULT_DAYLIGHT_LUX
+    daylight_lux: float | None = None
     daylight_max_minutes: float = 120.0
     cabin_lux: float = DEFAULT_CABIN_LUX
+    sky: str = DEFAULT_SKY
+    daylight_exposure: str = DEFAULT_EXPOSURE
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,100 @@
+"""Sleepiness forecasts of roster plans as plain data (JSON, tables, calendars); formatting only.
+
+The numbers come from :mod:`planner.engine.sleepiness` through :class:`planner.rosters.search.Metrics`;
+this module turns them into per-shift rows, per-draft summaries and population percentiles.
+"""
+
+from __future__ import annotations
+
+import math
+from datetime import datetime, timedelta
+from typing import Any, Sequence
+
+import numpy as np
+
+from planner.engine.population import spread
+from planner.engine.sleepiness import SLEEPY_KSS, ShiftSleepiness
+
+#: Plain-words description shown beside every sleepiness figure.
+SLEEPINESS_NOTE = (f"KSS: Karolinska Sleepiness Scale 1-9 (Åkerstedt & Gillberg 1990) from the three-process model "
+                   f"of alertness (Åkerstedt & Folkard 1997) driven by the simulated clock and the planned sleeps; "
+                   f"KSS {SLEEPY_KSS:g} = sleepy, but no effort to stay awake. A population forecast, not a "
+                   f"fitness-for-duty test.")
+
+
+def _num(value) -> float | None:
+    value = float(value)
+    return round(value, 2) if math.isfinite(value) else None
+
+
+def work_days(days: Sequence) -> list:
+    """The days with a shift, in the order of the sleepiness columns."""
+    return [d for d in days if d.work is not None]
+
+
+def shift_rows(days: Sequence, sleepiness: ShiftSleepiness, epoch: datetime, zone, row: int = 0) -> list[dict]:
+    """One dict per shift for worker (or plan) ``row``: lowest alertness and when, KSS, drive home."""
+    rows = []
+    for w, day in enumerate(work_days(days)):
+        when = sleepiness.lowest_at_h[row, w]
+        rows.append({
+            "date": day.date.isoformat(),
+            "shift": day.label,
+            "kind": day.kind,
+            "lowest_alertness": _num(sleepiness.lowest_alertness[row, w]),
+            "lowest_at": None if not math.isfinite(when) else
+            (epoch + timedelta(hours=float(when))).astimezone(zone).isoformat(timespec="minutes"),
+            "peak_kss": _num(sleepiness.peak_kss[row, w]),
+            "hours_at_kss_7_or_more": _num(sleepiness.sleepy_hours[row, w]),
+            "drive_home_kss": _num(sleepiness.drive_kss[row, w]),
+            "drive_home_sleepy": bool(sleepiness.drive_flag[row, w]),
+        })
+    return rows
+
+
+def summary(days: Sequence, sleepiness: ShiftSleepiness, row: int = 0) -> dict[str, Any]:
+    """A draft's sleepiness in a few numbers for one worker (or plan)."""
+    kinds = [d.kind for d in work_days(days)]
+    nights = [w for w, kind in enumerate(kinds) if kind == "night"]
+    peak = sleepiness.peak_kss[row]
+    return {
+        "hours_at_kss_7_or_more_per_week": _num(sleepiness.sleepy_hours_per_week(len(days))[row]),
+        "highest_kss": _num(np.nanmax(peak)) if peak.size and np.isfinite(peak).any() else None,
+        "mean_peak_kss": _num(np.nanmean(peak)) if peak.size and np.isfinite(peak).any() else None,
+        "highest_kss_on_nights": _num(np.nanmax(peak[nights])) if nights and np.isfinite(peak[nights]).any() else None,
+        "sleepy_drives_home": int(sleepiness.drive_flag[row].sum()),
+        "drives_home": int(sleepiness.drive_flag.shape[1]),
+    }
+
+
+def population_summary(days: Sequence, sleepiness: ShiftSleepiness) -> dict[str, dict]:
+    """Percentiles (10th, median, 90th) over workers of the per-worker sleepiness numbers."""
+    with np.errstate(all="ignore"):
+        highest = np.nanmax(np.where(np.isfinite(sleepiness.peak_kss), sleepiness.peak_kss, -np.inf), axis=1)
+    highest = np.where(np.isfinite(highest), highest, np.nan)
+    return {
+        "hours_at_kss_7_or_more_per_week": {k: _num(v) for k, v in
+                                            spread(sleepiness.sleepy_hours_per_week(len(days))).items()},
+        "highest_kss": {k: _num(v) for k, v in spread(highest).items()},
+        "sleepy_drives_home": {k: _num(v) for k, v in spread(sleepiness.drive_flag.sum(axis=1).astype(float)).items()},
+    }
+
+
+def shift_profiles(days: Sequence, sleepiness: ShiftSleepiness, epoch: datetime, row: int = 0) -> dict:
+    """KSS along each shift for worker ``row``, by the shift's local date: ((UTC instant, KSS), ...)."""
+    if not sleepiness.profiles:
+        return {}
+    return {day.date: tuple((epoch + timedelta(hours=float(t)), float(k)) for t, k in zip(times, kss[row]))
+            for day, (times, kss) in zip(work_days(days), sleepiness.profiles)}
+
+
+def night_description(row: dict) -> str:
+    """One line for a night shift's calendar event: the sleepiest time and the drive home."""
+    text = (f"Forecast sleepiness (KSS 1-9): highest {row['peak_kss']:.1f} around "
+            f"{row['lowest_at'][11:16] if row['lowest_at'] else '?'}; "
+            f"{row['hours_at_kss_7_or_more']:.1f} h at KSS 7 or more.")
+    if row["drive_home_sleepy"]:
+        text += (f" Drive home: KSS {row['drive_home_kss']:.1f} — sleepy; consider a nap, public transport or a "
+                 "lift, and follow your employer's fatigue rules.")
+    return text + " Population model, not a fitness-for-duty test."
+
