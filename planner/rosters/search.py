@@ -737,8 +737,9 @@ class DraftResult:
     population: PopulationSummary | None
     robust: RobustChoice | None = None
     #: Working-time rules the draft breaks (:mod:`planner.rosters.rules`); empty when it conforms.
-    rank_by: str = "disruption"
     breaches: tuple = ()
+    #: What the drafts are ranked by: "disruption" or "sleepiness".
+    rank_by: str = "disruption"
 
     @property
     def conforms(self) -> bool:
