@@ -30,7 +30,7 @@ from planner.plans.ics import DEFAULT_ALARM_KINDS
 from planner.trips.robust import SEARCH_PEOPLE
 
 JsonOption = Annotated[bool, typer.Option(
-    "--json", metavar="", help="Write one JSON document (schema_version 1) to stdout instead of tables on stderr.")]
+    "--json", metavar="", help="Write one JSON document (with its schema_version) to stdout instead of tables on stderr.")]
 ModelOption = Annotated[str, typer.Option(
     "--model", "-m", metavar="ID_OR_PATH",
     help=f"Built-in model id ({', '.join(available_models())}) or the path of a model .toml file.")]

@@ -288,8 +288,8 @@ def roster_command(
     alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
     paper: PaperOption = "A4",
     strict: Annotated[bool, typer.Option(
-        "--strict", help=("Refuse drafts that break the working-time rules (the file's [rules]) instead of ranking "
-                          "them last."))] = False,
+        "--strict", metavar="", help=("Refuse drafts that break the working-time rules (the file's \\[rules] table) "
+                                      "instead of ranking them last."))] = False,
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
     request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
