@@ -121,7 +121,7 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "model of alertness for an average worker with the planned sleep: a population model for comparing "
         "rosters, not a fitness-for-duty test. A worker who feels sleepy is sleepy whatever the forecast says. "
         "The employer's fatigue-risk management, working-time rules and local regulations come first.",
-        ("Åkerstedt & Folkard 1997, Chronobiol Int 14:115", "project policy"),
+        ("Åkerstedt & Folkard 1997, Chronobiol Int 14:115",),
         "Sleepiness forecast for an average worker, not a fitness-for-duty test; fatigue rules come first.",
     ),
     Caution(
