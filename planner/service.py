@@ -9,7 +9,9 @@ none holds science. Each use case takes a validated request and returns a result
 - :func:`plan_trip` — a trip planned from its scenario file (:class:`TripOutcome`);
 - :func:`plan_roster` — the drafts of a roster planned and ranked (:class:`RosterOutcome`);
 - :func:`prc` — a phase response curve (:class:`PrcOutcome`);
-- :func:`describe_model` — a parameter set with its computed properties (:class:`ModelDescription`).
+- :func:`describe_model` — a parameter set with its computed properties (:class:`ModelDescription`);
+- :func:`plan_calendars`, :func:`plan_report`, :func:`plan_chart`, :func:`publish_calendar` — a planned
+  outcome's document as calendar files, printable report and chart, and its calendar sent to CalDAV.
 
 Long work reports progress through an optional callback ``progress(label, done, total)``.
 Bad input raises :class:`planner.errors.InputError` (front ends: exit 2, HTTP 422), a computation
@@ -18,7 +20,8 @@ that cannot give a trustworthy result :class:`planner.errors.ComputationError`.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+import threading
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import timezone
 from pathlib import Path
@@ -37,8 +40,11 @@ from planner.engine.integrate import model_batch_size, simulate
 from planner.engine.parameters import ModelSpec, available_models, load_model
 from planner.engine.prc import DEFAULT_MEASURE_AFTER_DAYS, PRCSummary, PulseResponse, phase_response_curve, summarise
 from planner.errors import InputError
+from planner.plans.caldav import PublishResult
+from planner.plans.caldav import publish as caldav_publish
 from planner.plans.document import PlanDocument
 from planner.plans.entries import citation_entry, clock, model_entry, number, pattern_entry, problem_entry
+from planner.plans.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_by_group
 from planner.rosters import export as roster_export
 from planner.rosters.model import Roster
 from planner.rosters.scenario import RosterInfo, builtin_roster_paths, load_roster
@@ -473,6 +479,50 @@ def demo(name: str | None = None) -> Demo:
     return Demo(name or DEFAULT_DEMO, "trip", demo_path(name))
 
 
+# --------------------------------------------------------------------------- plan files
+
+#: pyplot keeps global state: charts and reports are drawn one at a time when front ends plan in threads.
+_DRAWING = threading.Lock()
+
+
+def plan_calendars(document: PlanDocument, *, alarm_minutes: float | None = DEFAULT_ALARM_MINUTES,
+                   previous: Mapping[str | None, bytes] | None = None) -> dict[str | None, bytes]:
+    """The plan's iCalendar files, one per worker group (key None: the whole plan, for a plan without groups).
+
+    ``previous`` maps a group to its earlier export, whose SEQUENCE numbers are carried on (an event whose
+    content changed gets SEQUENCE + 1), as ``--ics FILE --force`` does over an existing file.
+    """
+    found = {}
+    groups = calendars_by_group(document)
+    for group, events in groups.items():
+        name = document.title if group is None else f"{document.title} — {group}"
+        found[group] = calendar_bytes(document, events, name=name, alarm_minutes=alarm_minutes,
+                                      previous=(previous or {}).get(group))
+    return found
+
+
+def plan_report(document: PlanDocument) -> str:
+    """The printable, self-contained HTML report of a plan (as ``--report``)."""
+    from planner.plans.report import report_html  # matplotlib only when asked for
+
+    with _DRAWING:
+        return report_html(document)
+
+
+def plan_chart(document: PlanDocument, fmt: Literal["svg", "png"] = "svg") -> bytes:
+    """The phase chart of a plan (as ``--chart``)."""
+    from planner.plans.report import chart_bytes  # matplotlib only when asked for
+
+    with _DRAWING:
+        return chart_bytes(document, fmt)
+
+
+def publish_calendar(data: bytes, url: str, *, user: str | None = None, password: str | None = None,
+                     source: str = "calendar") -> PublishResult:
+    """Publish a calendar written by :func:`plan_calendars` to a CalDAV collection (as ``phaseplan publish``)."""
+    return caldav_publish(data, url, user=user, password=password, source=source)
+
+
 # --------------------------------------------------------------------------- models and the PRC
 
 @dataclass(frozen=True)
@@ -590,6 +640,6 @@ def prc(model: str = "forger1999", *, hours: float = 6.7, lux: float = 10_000.0,
 __all__ = [
     "CheckReport", "Demo", "ModelDescription", "PrcOutcome", "ProgressCallback", "RosterOutcome", "RosterRequest",
     "TripOutcome", "TripRequest", "check_file", "demo", "demos", "describe_model", "file_kind", "list_models",
-    "load_checked_model", "model_names", "models_json", "plan_roster", "plan_trip", "prc", "prepare_roster",
-    "prepare_trip",
+    "load_checked_model", "model_names", "models_json", "plan_calendars", "plan_chart", "plan_report",
+    "plan_roster", "plan_trip", "prc", "prepare_roster", "prepare_trip", "publish_calendar",
 ]
