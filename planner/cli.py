@@ -1303,6 +1303,7 @@ def publish_command(
 # --------------------------------------------------------------------------- rosters
 
 from planner import cli_roster  # noqa: E402,F401  (registers the roster command on app)
+from planner import cli_places  # noqa: E402,F401  (registers the places command on app)
 
 
 # --------------------------------------------------------------------------- entry point
