@@ -893,10 +893,11 @@ def _progress_bar(console: Console):
     return bar, update
 
 
-def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str | None, json_out: bool,
+def _run_trip(command: str, path: str | None, strategy: StrategyChoice, model_name: str | None, json_out: bool,
               people: int = 0, seed: int = 0, robust: bool = False, models_list: str | None = None,
-              by_day: int | None = None, files: PlanFiles = PlanFiles()) -> None:
-    trip, info = load_trip(path)
+              by_day: int | None = None, files: PlanFiles = PlanFiles(),
+              loaded: tuple[Trip, ScenarioInfo] | None = None, saved: str | None = None) -> None:
+    trip, info = loaded or load_trip(path)
     base_model = load_model(model_name or info.model)
     ensemble_ids = _model_list(models_list)
     evidence = info.person
@@ -944,8 +945,12 @@ def _run_trip(command: str, path: str, strategy: StrategyChoice, model_name: str
         document["cautions"] = document.pop("cautions")
         if written["ics"] or written["report"] or written["chart"]:
             document["written"] = written
+        if saved is not None:
+            document["saved_scenario"] = saved
         _emit_json(document)
         return
+    if saved is not None:
+        console.print(f"scenario saved to {escape(saved)} (phaseplan check / trip accept it)")
     _print_trip(console, trip, info, model, plan, views)
     _print_starting(console, start)
     if robust_result is not None:
@@ -1142,7 +1147,10 @@ def _print_ensemble(console: Console, trip: Trip, ensemble: EnsembleResult) -> N
         console.print("  the models agree within 1 h on every day's CBTmin and on the days to re-entrain")
 
 
-ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
+ScenarioArgument = Annotated[str | None, typer.Argument(metavar="[FILE]", help=(
+    "Trip scenario file (.toml, kind = \"trip\"); or leave it out and give --from, --to, --depart, --arrive."))]
+from planner.cli_quicktrip import (ArriveOption, DepartOption, FromOption, PrepareOption, SaveOption,  # noqa: E402
+                                   SleepOption, StayOption, ToOption)
 CheckArgument = Annotated[str, typer.Argument(metavar="FILE", help=(
     "Scenario file (.toml, kind = \"trip\" or \"roster\")."))]
 
@@ -1196,15 +1204,32 @@ def check(path: CheckArgument, json_out: JsonOption = False) -> None:
 @app.command("trip", help=(
     "Plan light and sleep for a trip across time zones: a day-by-day table on the local clock, the advance, "
     "delay and no-plan comparison, the recommendation and the cautions."))
-def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoice.auto, model_name: TripModelOption = None,
+def trip_command(path: ScenarioArgument = None, strategy: StrategyOption = StrategyChoice.auto,
+                 model_name: TripModelOption = None,
                  people: PeopleOption = 0, seed: SeedOption = 0, robust: RobustOption = False,
                  models_list: ModelsOption = None, by_day: ByDayOption = None, json_out: JsonOption = False,
                  ics: IcsOption = None, report: ReportOption = None, chart: ChartOption = None,
                  force: ForceOption = False, alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
-                 no_alarms: NoAlarmsOption = False) -> None:
+                 no_alarms: NoAlarmsOption = False,
+                 origin: FromOption = None, destination: ToOption = None, depart: DepartOption = None,
+                 arrive: ArriveOption = None, stay: StayOption = None, sleep: SleepOption = None,
+                 prepare: PrepareOption = None, save: SaveOption = None) -> None:
     """Plan a trip scenario (help text on the decorator)."""
-    _run_trip("trip", path, strategy, model_name, json_out, people, seed, robust, models_list, by_day,
-              PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms))
+    files = PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms)
+    if path is not None or origin is None and destination is None and depart is None and arrive is None:
+        quick_only = {"--stay": stay, "--sleep": sleep, "--prepare": prepare, "--save": save,
+                      "--from": origin, "--to": destination, "--depart": depart, "--arrive": arrive}
+        extra = [name for name, value in quick_only.items() if value is not None]
+        if path is None or extra:
+            raise InputError("give a trip scenario FILE, or --from, --to, --depart and --arrive for a quick trip"
+                             + (f" (not both: {', '.join(extra)} are quick-trip options)" if path and extra else ""),
+                             field="trip")
+        _run_trip("trip", path, strategy, model_name, json_out, people, seed, robust, models_list, by_day, files)
+        return
+    from planner.cli_quicktrip import quick_trip
+    loaded, saved = quick_trip(origin, destination, depart, arrive, stay, sleep, prepare, model_name, save, force)
+    _run_trip("trip", None, strategy, model_name, json_out, people, seed, robust, models_list, by_day, files,
+              loaded=loaded, saved=saved)
 
 
 @app.command("demo", help=(

@@ -336,8 +336,8 @@ def picking_queries(places: list[NamedPlace]) -> dict[int, str]:
 
 def place_fields(place: NamedPlace) -> dict[str, object]:
     """The four fields of a scenario file's place table (``name``, ``time_zone``, ``latitude``, ``longitude``)."""
-    return {"name": place.name, "time_zone": place.time_zone, "latitude": round(place.latitude, 4),
-            "longitude": round(place.longitude, 4)}
+    return {"name": place.name, "time_zone": place.time_zone, "latitude": place.latitude,
+            "longitude": place.longitude}
 
 
 __all__ = ["NamedPlace", "PlaceMatch", "UnknownPlaceError", "AmbiguousPlaceError", "search_places", "resolve_place",

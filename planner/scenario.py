@@ -19,7 +19,7 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     preparation_days = 3                         # days before the first departure (0..14)
     max_sleep_shift_h_per_day = 1.0              # largest move of bedtime per preparation day (0, 3]
 
-    [home]
+    [home]                                # or just: place = "Lisbon" (see below)
     name = "Lisbon"
     time_zone = "Europe/Lisbon"
     latitude = 38.72
@@ -60,6 +60,14 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     light_log_time_zone = "Europe/Lisbon" # zone of time stamps without a UTC offset (default: home)
     tau_h = 24.4                          # measured intrinsic period [h]
 
+Places by name
+--------------
+Any place table (``[home]``, ``[destination]``, ``[[stops]]``, and a roster's ``[site]``) may give
+``place = "Tokyo"`` (or ``"London, GB"``, ``"Portland, US-OR"``) instead of ``time_zone``,
+``latitude`` and ``longitude``; :func:`planner.gazetteer.resolve_place` looks it up, and an unknown
+or ambiguous name is reported on the ``place`` line (the ambiguity with its candidates).  ``name``
+is then optional.
+
 A measured DLMO is preferred to a light log, and a light log to the habitual sleep
 (:mod:`planner.evidence`).
 
@@ -91,6 +99,7 @@ from planner import tomlfile
 from planner.evidence import DLMO_SD_MIN, NO_EVIDENCE, PersonEvidence
 from planner.shipped import shipped_toml_files
 from planner.errors import InputError
+from planner.gazetteer import resolve_place
 from planner.localtime import local_day_bounds, parse_clock, resolve_local, to_utc, zone
 from planner.parameters import available_models
 from planner.tomlfile import InputFileError, Problem
@@ -161,17 +170,46 @@ class Traveller(_Strict):
     max_sleep_shift_h_per_day: float = Field(1.0, gt=0.0, le=3.0, allow_inf_nan=False)
 
 
+#: The fields a place table needs when it gives no ``place`` name to look up.
+PLACE_FIELDS = ("time_zone", "latitude", "longitude")
+
+
 class PlaceEntry(_Strict):
-    name: str = Field(min_length=1, max_length=80)
-    time_zone: str
-    latitude: float = Field(ge=-90.0, le=90.0, allow_inf_nan=False)
-    longitude: float = Field(ge=-180.0, le=180.0, allow_inf_nan=False)
+    """A place: ``place = "Tokyo"`` (looked up in :mod:`planner.gazetteer`), or ``name``, ``time_zone``,
+    ``latitude`` and ``longitude``.  With ``place``, ``name`` is optional (default: the place's own name)."""
+
+    name: str | None = Field(None, min_length=1, max_length=80)
+    place: str | None = Field(None, min_length=1, max_length=120)
+    time_zone: str | None = None
+    latitude: float | None = Field(None, ge=-90.0, le=90.0, allow_inf_nan=False)
+    longitude: float | None = Field(None, ge=-180.0, le=180.0, allow_inf_nan=False)
     sleep: SleepEntry | None = None
 
     @field_validator("time_zone")
     @classmethod
-    def _zone(cls, value: str) -> str:
-        return _checked(zone, value).strip()
+    def _zone(cls, value: str | None) -> str | None:
+        return None if value is None else _checked(zone, value).strip()
+
+    @field_validator("place")
+    @classmethod
+    def _known_place(cls, value: str | None) -> str | None:
+        return None if value is None else _checked(resolve_place, value)
+
+    @model_validator(mode="after")
+    def _located(self) -> "PlaceEntry":
+        given = [name for name in PLACE_FIELDS if getattr(self, name) is not None]
+        if self.place is not None:
+            if given:
+                raise ValueError(f'place = "{self.place}" and {", ".join(given)} both say where this is; give either '
+                                 "place or name, time_zone, latitude and longitude")
+            found = resolve_place(self.place)
+            return self.model_copy(update={"name": self.name or found.name, "time_zone": found.time_zone,
+                                           "latitude": found.latitude, "longitude": found.longitude})
+        missing = [name for name in ("name",) + PLACE_FIELDS if getattr(self, name) is None]
+        if missing:
+            raise ValueError(f"required field{'s are' if len(missing) > 1 else ' is'} missing: {', '.join(missing)} "
+                             '(or give place = "City" to look the place up by name)')
+        return self
 
 
 class HomeEntry(PlaceEntry):
@@ -309,6 +347,17 @@ def load_trip(path: str | Path) -> tuple[Trip, ScenarioInfo]:
     return _build(spec, text, path)
 
 
+def load_trip_text(text: str, source: str, folder: str | Path = ".") -> tuple[Trip, ScenarioInfo]:
+    """:func:`load_trip` for scenario text that is not (yet) a file, e.g. a trip given on the command line.
+
+    ``source`` names the text in messages; relative paths in it (a model file, a light log) are read from
+    ``folder``.
+    """
+    spec = tomlfile.scenario_from_text(TripFile, text, source, "trip", default="trip")
+    trip, info = _build(spec, text, Path(folder) / "scenario.toml", source)
+    return trip, ScenarioInfo(info.name, info.description, info.model, source, info.round_trip, info.person)
+
+
 def _place(entry: PlaceEntry, default_sleep: SleepEntry) -> Place:
     sleep = entry.sleep or default_sleep
     return Place(entry.name, zone(entry.time_zone), float(entry.latitude), float(entry.longitude),
@@ -341,8 +390,8 @@ def _local(text: str, place: Place, fold: int | None, field: tuple[str | int, ..
         return None
 
 
-def _build(spec: TripFile, text: str, path: Path) -> tuple[Trip, ScenarioInfo]:
-    problems = _Problems(str(path), text)
+def _build(spec: TripFile, text: str, path: Path, source: str | None = None) -> tuple[Trip, ScenarioInfo]:
+    problems = _Problems(source or str(path), text)
     model = _model_reference(spec.model, path, problems)
     home_sleep = spec.traveller.sleep
     home = _place(spec.home, home_sleep)
@@ -533,4 +582,4 @@ def demo_path(name: str | None = None) -> Path:
     return demos[key]
 
 
-__all__ = ["ScenarioInfo", "TripFile", "load_trip", "builtin_scenario_paths", "demo_path", "DEFAULT_DEMO"]
+__all__ = ["ScenarioInfo", "TripFile", "load_trip", "load_trip_text", "builtin_scenario_paths", "demo_path", "DEFAULT_DEMO"]
