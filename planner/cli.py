@@ -665,8 +665,8 @@ def _scenario_problems(path: str, loader=None) -> tuple[list[Problem], tuple[Any
         return list(exc.problems), None
     except InputError as exc:
         return [Problem(path, "model", _one_line(exc.one_line()))], None
-    person = loaded[1].person
-    if person.light_log is not None:
+    person = getattr(loaded[1], "person", None)   # a roster has no traveller
+    if person is not None and person.light_log is not None:
         try:
             read_light_log(person.light_log, person.light_log_time_zone or loaded[0].home.zone)
         except InputError as exc:
@@ -1152,15 +1152,18 @@ ScenarioArgument = Annotated[str | None, typer.Argument(metavar="[FILE]", help=(
 from planner.cli_quicktrip import (ArriveOption, DepartOption, FromOption, PrepareOption, SaveOption,  # noqa: E402
                                    SleepOption, StayOption, ToOption)
 CheckArgument = Annotated[str, typer.Argument(metavar="FILE", help=(
-    "Scenario file (.toml, kind = \"trip\" or \"roster\")."))]
+    "Scenario file (.toml, kind = \"trip\" or \"roster\"), or a roster spreadsheet (.xlsx, .csv)."))]
 
 
 @app.command("check", help=("Check a trip or roster scenario file: every problem is listed with its file, line and "
                             "field (exit 2 if there is any); otherwise a short summary."))
 def check(path: CheckArgument, json_out: JsonOption = False) -> None:
     """Validate a trip or roster scenario (help text on the decorator)."""
-    roster_file = declared_kind(path) == "roster"
-    problems, loaded = _scenario_problems(path, load_roster if roster_file else None)
+    from planner.cli_rostersheet import load_any_roster
+    from planner.rostersheet import is_sheet_path
+
+    roster_file = is_sheet_path(path) or declared_kind(path) == "roster"
+    problems, loaded = _scenario_problems(path, load_any_roster if roster_file else None)
     if problems:
         if json_out:
             _emit_json({"command": "check", "valid": False, "problems": [_problem_entry(p) for p in problems]})

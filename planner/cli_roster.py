@@ -37,6 +37,8 @@ from planner.rosterplan import (ENSEMBLE_TOLERANCE_H, LOW_HALF_WIDTH_H, SHORT_NA
 from planner.rosterview import (RosterDayView, chart_legend, day_views, document_from_roster, score_text,
                                 text_chart)
 from planner.trip import Window
+from planner.cli_rostersheet import (TemplateOption, TemplateStartOption, load_any_roster, roster_paths,
+                                     write_template)
 
 
 
@@ -367,14 +369,15 @@ def _source(window: Window) -> str:
     return "box" if window.source == "light box" else window.source
 
 
-RosterArgument = Annotated[str, typer.Argument(metavar="FILE", help="Roster scenario file (.toml, kind = \"roster\").")]
+RosterArgument = Annotated[list[str] | None, typer.Argument(metavar="FILE...", help=(
+    "Roster scenario file (.toml, kind = \"roster\"), or spreadsheets (.xlsx, .csv; each sheet a draft)."))]
 
 
 @app.command("roster", help=(
     "Evaluate shift-roster drafts: how each displaces the workers' body clocks, the least disruptive light/dark "
     "and sleep plan per draft, the drafts ranked side by side, a day-by-day plan and a text chart."))
 def roster_command(
-    path: RosterArgument,
+    path: RosterArgument = None,
     strategy: Annotated[RosterStrategy, typer.Option(
         "--strategy", "-s", case_sensitive=False,
         help=("auto: search full adaptation to nights, the compromise phase position and staying day-oriented, "
@@ -405,17 +408,22 @@ def roster_command(
     alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
     no_alarms: NoAlarmsOption = False,
     group: GroupOption = None,
+    template: TemplateOption = None,
+    template_start: TemplateStartOption = None,
 ) -> None:
     """Plan a roster scenario (help text on the decorator)."""
-    run_roster(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out,
+    if template is not None:
+        write_template(template, template_start, force, json_out, path)
+        return
+    run_roster(roster_paths(path), RosterStrategy(strategy).value, workers, seed, model_name, draft, json_out,
                PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group), robust, models_list)
 
 
-def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: str | None, draft: str | None,
-               json_out: bool, files: PlanFiles = PlanFiles(), robust: bool = False,
+def run_roster(path: str | list[str], strategy: str, workers: int, seed: int, model_name: str | None,
+               draft: str | None, json_out: bool, files: PlanFiles = PlanFiles(), robust: bool = False,
                models_list: str | None = None) -> None:
-    """Plan a roster file and print the result (shared by ``roster`` and ``demo``)."""
-    roster, info = load_roster(path)
+    """Plan a roster file (or spreadsheets) and print the result (shared by ``roster`` and ``demo``)."""
+    roster, info = load_any_roster(path)
     model = load_model(model_name or info.model)
     if draft is not None and draft not in {d.name for d in roster.drafts}:
         allowed = ", ".join(f'"{d.name}"' for d in roster.drafts)
@@ -453,8 +461,8 @@ def run_roster(path: str, strategy: str, workers: int, seed: int, model_name: st
 
 
 def check_roster(path: str, json_out: bool) -> None:
-    """``phaseplan check`` for a roster file: raises the file's problems, else prints a summary."""
-    roster, info = load_roster(path)
+    """``phaseplan check`` for a roster file or spreadsheet: raises the file's problems, else prints a summary."""
+    roster, info = load_any_roster(path)
     model = load_model(info.model)
     summary = {"kind": "roster", "name": info.name, "model": model.id, "site": roster.site.name,
                "time_zone": str(roster.site.zone), "start_date": roster.start.isoformat(),

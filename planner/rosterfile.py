@@ -181,7 +181,7 @@ def load_roster(path: str | Path) -> tuple[Roster, RosterInfo]:
     """
     path = Path(path)
     spec, text = tomlfile.load_scenario(RosterFile, path, "roster")
-    return _build(spec, text, path)
+    return build_roster(spec, _Problems(str(path), text), path)
 
 
 def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: _Problems) -> ShiftType | None:
@@ -223,8 +223,13 @@ def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: _Problems) 
     return ShiftType(code, start, end, entry.label or code, sleep)
 
 
-def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]:
-    problems = _Problems(str(path), text)
+def build_roster(spec: RosterFile, problems, path: Path) -> tuple[Roster, RosterInfo]:
+    """A validated :class:`RosterFile` as a :class:`~planner.roster.Roster` (shared by every roster reader).
+
+    ``problems`` collects the semantic problems (``add(field, message)``, ``raise_if_any()``) and says where each
+    field stands: a TOML line (:class:`planner.scenario._Problems`) or a spreadsheet cell.  ``path`` is the file
+    relative model paths are read from.
+    """
     model = _model_reference(spec.model, path, problems)
     commute_h = spec.workers.commute_minutes / 60.0
     shifts = [s for s in (_shift(code, entry, commute_h, problems) for code, entry in spec.shifts.items()) if s]

@@ -194,7 +194,8 @@ def _find_key(lines: list[str], start: int, keys: list[str], stop: int | None = 
     return None if found is None else found + 1
 
 
-def _describe(error: dict[str, Any]) -> str:
+def describe_error(error: dict[str, Any]) -> str:
+    """A pydantic error (one item of ``ValidationError.errors()``) as what is wrong and what is allowed."""
     kind = error.get("type", "")
     if kind == "missing":
         return "required field is missing"
@@ -228,7 +229,7 @@ def validate(model: type[ModelT], data: dict[str, Any], text: str, source: str) 
         for error in exc.errors():
             location = tuple(error.get("loc", ()))
             field = ".".join(str(part) for part in location)
-            problems.append(Problem(source, field, _describe(error), locate_line(text, location)))
+            problems.append(Problem(source, field, describe_error(error), locate_line(text, location)))
         raise InputFileError(problems) from None
 
 
