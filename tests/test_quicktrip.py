@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import shlex
 import tomllib
 from pathlib import Path
 
@@ -17,7 +18,8 @@ from tests.test_cli import assert_one_line_error, one_json_document
 # An invented traveller: Sydney to London in the southern autumn; the flight's times are each on the
 # local clock of its airport (Sydney AEDT +11:00, London GMT +00:00 on these dates: IANA tz database).
 QUICK = ["--from", "Sydney", "--to", "London, GB", "--depart", "2027-03-10 15:00", "--arrive", "2027-03-11 06:00",
-         "--stay", "3", "--sleep", "23:30-07:30"]
+         "--stay", "5"]
+README = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
 
 #: The same trip written by hand as a scenario file, with the places by name.
 EQUIVALENT_TOML = """\
@@ -26,14 +28,14 @@ name = "Sydney to London"
 model = "forger1999"
 
 [traveller]
-sleep = { bed = "23:30", wake = "07:30" }
+sleep = { bed = "23:00", wake = "07:00" }
 
 [home]
 place = "Sydney"
 
 [destination]
 place = "London, GB"
-stay_days = 3
+stay_days = 5
 
 [[flights]]
 from = "home"
@@ -86,6 +88,14 @@ def test_save_never_overwrites_without_force(tmp_path):
     line = assert_one_line_error(run("trip", *QUICK, "--save", str(saved)))
     assert "exists; use --force" in line
     assert saved.read_text(encoding="utf-8") == "# the user's own file\n"
+
+
+def test_readme_shows_the_quick_trip_first_after_the_demo():
+    after_set_up = README.split("## Set-up on a fresh machine", 1)[1].split("```sh\n")
+    # the set-up section's two blocks (install + demo, tests), then the first example: this very quick trip
+    first_example = after_set_up[3].split("```")[0].strip()
+    assert after_set_up[1].split("```")[0].strip().endswith("phaseplan demo")
+    assert shlex.split(first_example) == [".venv/bin/phaseplan", "trip", *QUICK]
 
 
 def test_quick_trip_library_builds_the_file_loader_trip():
