@@ -20,9 +20,10 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from planner import LightSchedule, ambient, cbtmin_times, entrain, light_box, load_model, sleep
-from planner.integrate import simulate
-from planner.reference import reference_solution
+from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, sleep
+from planner.engine.entrainment import entrain
+from planner.engine.integrate import simulate
+from planner.engine.reference import reference_solution
 
 TARGET_RATE = 3000.0      # schedules/s (issue target)
 TARGET_RATIO = 300.0      # × solve_ivp (issue target)

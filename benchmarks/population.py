@@ -20,10 +20,10 @@ import argparse
 import time
 
 from planner import load_model
-from planner.robust import SEARCH_PEOPLE, population_report, robust_plan
-from planner.scenario import demo_path, load_trip
-from planner.trip import trip_days
-from planner.tripplan import plan_trip
+from planner.trips.model import trip_days
+from planner.trips.robust import SEARCH_PEOPLE, population_report, robust_plan
+from planner.trips.scenario import demo_path, load_trip
+from planner.trips.search import plan_trip
 
 POPULATION_TARGET_S = 5.0   # 1,000 people × a 14-day plan (issue target)
 ROBUST_TARGET_S = 60.0      # robust optimisation of one trip (issue target)

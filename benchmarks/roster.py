@@ -20,10 +20,10 @@ from datetime import date
 from zoneinfo import ZoneInfo
 
 from planner import load_model
-from planner.population import draw_population
-from planner.roster import Draft, Roster, ShiftType
-from planner.rosterplan import RosterEvaluator, plan_for, plan_roster, reference
-from planner.trip import Place
+from planner.engine.population import draw_population
+from planner.rosters.model import Draft, Roster, ShiftType
+from planner.rosters.search import RosterEvaluator, plan_for, plan_roster, reference
+from planner.world.places import Place
 
 TARGET_SECONDS = 10.0   # 28-day roster, 1,000 workers, 3 drafts (issue target)
 

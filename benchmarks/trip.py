@@ -14,8 +14,8 @@ import argparse
 import time
 
 from planner import load_model
-from planner.scenario import builtin_scenario_paths, load_trip
-from planner.tripplan import plan_trip
+from planner.trips.scenario import builtin_scenario_paths, load_trip
+from planner.trips.search import plan_trip
 
 TARGET_SECONDS = 10.0   # per trip (issue target)
 

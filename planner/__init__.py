@@ -9,18 +9,45 @@ The public API::
 """
 
 from planner._version import __version__
-from planner.entrainment import (DEFAULT_DAY, DailyPattern, EntrainmentResult, FreeRunResult, entrain,
-                                 free_running_period)
-from planner.errors import (ComputationError, InputError, ModelFileError, PhaseplanError, ScheduleError,
-                            UnknownModelError)
-from planner.integrate import SimulationResult, integrate, simulate
-from planner.light import (GridLight, LightLayer, LightSchedule, ambient, dark_glasses, light_box,
-                           sample_on_grid, sleep)
-from planner.markers import (Reentrainment, cbtmin_times, daily_markers, dlmo_times, phase_at,
-                             phase_difference, reentrainment)
-from planner.parameters import ModelSpec, available_models, load_model, read_model_file
-from planner.prc import PRCSummary, PulseResponse, phase_response_curve, pulse_shifts, summarise
+from planner.engine.entrainment import (
+                                 DEFAULT_DAY,
+                                 DailyPattern,
+                                 EntrainmentResult,
+                                 FreeRunResult,
+                                 entrain,
+                                 free_running_period,
+)
+from planner.engine.integrate import SimulationResult, integrate, simulate
+from planner.engine.markers import (
+                                 Reentrainment,
+                                 cbtmin_times,
+                                 daily_markers,
+                                 dlmo_times,
+                                 phase_at,
+                                 phase_difference,
+                                 reentrainment,
+)
+from planner.engine.parameters import ModelSpec, available_models, load_model, read_model_file
+from planner.engine.prc import PRCSummary, PulseResponse, phase_response_curve, pulse_shifts, summarise
+from planner.errors import (
+                                 ComputationError,
+                                 InputError,
+                                 ModelFileError,
+                                 PhaseplanError,
+                                 ScheduleError,
+                                 UnknownModelError,
+)
 from planner.tomlfile import InputFileError
+from planner.world.light import (
+                                 GridLight,
+                                 LightLayer,
+                                 LightSchedule,
+                                 ambient,
+                                 dark_glasses,
+                                 light_box,
+                                 sample_on_grid,
+                                 sleep,
+)
 
 __all__ = [
     "__version__", "DEFAULT_DAY", "DailyPattern", "EntrainmentResult", "FreeRunResult", "entrain",

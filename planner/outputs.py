@@ -41,6 +41,8 @@ def check_target(path: str | os.PathLike, *, force: bool) -> Path:
         is missing or not writable, or a target that is a folder, as one line naming the file.
     """
     target = Path(path)
+    if len(target.name.encode("utf-8")) > 255:   # NAME_MAX of common file systems (POSIX limits.h)
+        raise InputError("cannot write: the file name is longer than 255 bytes", source=str(target))
     if target.is_dir():
         raise InputError("is a folder; give a file name", source=str(target))
     if target.exists() and not force:

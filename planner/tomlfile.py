@@ -222,15 +222,46 @@ def validate(model: type[ModelT], data: dict[str, Any], text: str, source: str) 
     InputFileError
         Listing every problem pydantic found, each with its line.
     """
+    problems = _control_character_problems(data, text, source)
     try:
-        return model.model_validate(data)
+        validated = model.model_validate(data)
     except pydantic.ValidationError as exc:
-        problems = []
         for error in exc.errors():
             location = tuple(error.get("loc", ()))
             field = ".".join(str(part) for part in location)
             problems.append(Problem(source, field, describe_error(error), locate_line(text, location)))
         raise InputFileError(problems) from None
+    if problems:
+        raise InputFileError(problems)
+    return validated
+
+
+#: Keys whose text may run over several lines (a tab or a line feed is allowed there, nowhere else).
+MULTILINE_KEYS = frozenset({"description"})
+#: Control characters refused in any text: they would end up in calendar lines, reports and terminals.
+_CONTROL = {chr(c) for c in (*range(0x00, 0x20), *range(0x7F, 0xA0))} | {"\u2028", "\u2029"}
+
+
+def _control_character_problems(data: Any, text: str, source: str,
+                                 location: tuple[str | int, ...] = ()) -> list[Problem]:
+    """One problem per text value holding a control character (a tab or line feed is fine in a description)."""
+    if isinstance(data, dict):
+        return [p for key, value in data.items()
+                for p in _control_character_problems(value, text, source, location + (key,))]
+    if isinstance(data, list):
+        return [p for k, value in enumerate(data)
+                for p in _control_character_problems(value, text, source, location + (k,))]
+    if not isinstance(data, str):
+        return []
+    allowed = {"\t", "\n"} if location and location[-1] in MULTILINE_KEYS else set()
+    found = sorted({c for c in data if c in _CONTROL} - allowed)
+    if not found:
+        return []
+    names = ", ".join(f"U+{ord(c):04X}" for c in found)
+    where = "tab and line feed are allowed only in a description" if not allowed else "tab and line feed are allowed"
+    return [Problem(source, ".".join(str(part) for part in location),
+                    f"contains a control character ({names}); use printable text ({where})",
+                    locate_line(text, location))]
 
 
 def load(model: type[ModelT], path: str | Path) -> tuple[ModelT, str]:

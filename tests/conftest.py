@@ -9,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pytest
 
-from planner.parameters import builtin_model_paths, load_model
+from planner.engine.parameters import builtin_model_paths, load_model
 
 #: The three built-in parameter sets (models/*.toml).
 MODELS = ("forger1999", "jewett1999", "hannay2019")
@@ -56,7 +56,7 @@ def at(hours: float) -> datetime:
 @pytest.fixture(scope="session")
 def entrained_states() -> dict[str, np.ndarray]:
     """State (3,) at a UTC midnight after entrainment to the planner's default day, per model."""
-    from planner.entrainment import entrain
+    from planner.engine.entrainment import entrain
 
     states = {}
     for name in MODELS:
@@ -70,8 +70,8 @@ def entrained_states() -> dict[str, np.ndarray]:
 def planned_demos() -> Callable[[str], tuple]:
     """``get(name) -> (trip, info, TripPlanResult)``: a shipped demo trip planned with forger1999 and the
     auto strategy, at most once per test session (planning a demo takes seconds)."""
-    from planner.scenario import demo_path, load_trip
-    from planner.tripplan import plan_trip
+    from planner.trips.scenario import demo_path, load_trip
+    from planner.trips.search import plan_trip
 
     cache: dict[str, tuple] = {}
 

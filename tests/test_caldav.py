@@ -20,16 +20,15 @@ from zoneinfo import ZoneInfo
 
 import pytest
 import vobject
-from typer.testing import CliRunner
-
-from planner.caldav import PublishError, publish
-from planner.cli import app
-from planner.errors import InputError
-from planner.ics import calendar_bytes, event_uid
-from planner.plandoc import document_from_trip
-
 from test_calendar import night_document, to_second, vobject_events, vobject_read
 from test_cli import assert_one_line_error
+from typer.testing import CliRunner
+
+from planner.cli import app
+from planner.errors import InputError
+from planner.plans.caldav import PublishError, publish
+from planner.plans.ics import calendar_bytes, event_uid
+from planner.trips.document import document_from_trip
 
 UTC = timezone.utc
 USER, PASSWORD = "ana", "not-a-real-secret"

@@ -16,19 +16,20 @@ from zoneinfo import ZoneInfo
 import icalendar
 import pytest
 import vobject
+from test_cli import assert_one_line_error, one_json_document
 from typer.testing import CliRunner
 
-import planner.cli
+import planner.service
 import planner.outputs
-from planner.cautions import CAUTIONS, TRIP_CAUTIONS
-from planner.cli import PlanFiles, app, write_plan_files
+from planner.cli import app
+from planner.plans.files import PlanFiles, write_plan_files
 from planner.errors import InputError
-from planner.ics import UID_DOMAIN, calendar_bytes, calendars_by_group, event_uid
 from planner.outputs import write_atomic
-from planner.plandoc import DayRow, PlanDocument, PlanEvent, document_from_trip
-from planner.tripview import place_at
-
-from test_cli import assert_one_line_error, one_json_document
+from planner.plans.cautions import CAUTIONS, TRIP_CAUTIONS
+from planner.plans.document import DayRow, PlanDocument, PlanEvent
+from planner.plans.ics import UID_DOMAIN, calendar_bytes, calendars_by_group, event_uid
+from planner.trips.document import document_from_trip
+from planner.trips.views import place_at
 
 UTC = timezone.utc
 BERLIN = ZoneInfo("Europe/Berlin")
@@ -45,7 +46,7 @@ def tokyo(planned_demos):
 @pytest.fixture
 def stored_plans(planned_demos, monkeypatch):
     """Let the CLI reuse the session's plans for the same demo trip (auto strategy, forger1999)."""
-    real = planner.cli.plan_trip
+    real = planner.service.search_trip
 
     def stand_in(trip, model, strategy="auto", **kwargs):
         for name in (EAST_DEMO, SHORT_DEMO):
@@ -54,7 +55,7 @@ def stored_plans(planned_demos, monkeypatch):
                 return result
         return real(trip, model, strategy, **kwargs)
 
-    monkeypatch.setattr(planner.cli, "plan_trip", stand_in)
+    monkeypatch.setattr(planner.service, "search_trip", stand_in)
 
 
 def run(*args: str):

@@ -17,10 +17,11 @@ from pathlib import Path
 import pytest
 from typer.testing import CliRunner
 
-import planner.cli
-from planner import ComputationError, __version__
+import planner.service
+from planner import __version__
 from planner.cli import app
-from planner.parameters import builtin_model_paths
+from planner.engine.parameters import builtin_model_paths
+from planner.errors import ComputationError
 
 REPO = Path(__file__).resolve().parent.parent
 
@@ -271,7 +272,7 @@ def test_malformed_model_file_is_one_line_and_exit_2(tmp_path, old, new, field, 
 def test_computation_failure_exits_1_with_one_line(monkeypatch):
     def fail(*_args, **_kwargs):
         raise ComputationError("cannot start the PRC protocol: not entrained")
-    monkeypatch.setattr(planner.cli, "phase_response_curve", fail)
+    monkeypatch.setattr(planner.service, "phase_response_curve", fail)
     line = assert_one_line_error(run("prc", "--json"), code=1)
     assert "not entrained" in line
 
@@ -279,7 +280,7 @@ def test_computation_failure_exits_1_with_one_line(monkeypatch):
 def test_interrupt_exits_130(monkeypatch):
     def interrupt(*_args, **_kwargs):
         raise KeyboardInterrupt
-    monkeypatch.setattr(planner.cli, "load_model", interrupt)
+    monkeypatch.setattr(planner.service, "load_model", interrupt)
     result = run("prc")
     assert result.exit_code == 130
     assert "Traceback" not in result.stderr

@@ -3,7 +3,8 @@
 import numpy as np
 import pytest
 
-from planner import DEFAULT_DAY, DailyPattern, InputError, entrain, load_model, phase_difference
+from planner import DEFAULT_DAY, DailyPattern, InputError, load_model, phase_difference
+from planner.engine.entrainment import entrain
 
 MODELS = ["forger1999", "jewett1999", "hannay2019"]
 

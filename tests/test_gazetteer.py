@@ -17,7 +17,7 @@ from typer.testing import CliRunner
 
 from planner.cli import app
 from planner.errors import InputError
-from planner.gazetteer import (DOMINANT_POPULATION_RATIO, AmbiguousPlaceError, UnknownPlaceError, normalise,
+from planner.world.gazetteer import (DOMINANT_POPULATION_RATIO, AmbiguousPlaceError, UnknownPlaceError, normalise,
                                place_fields, resolve_place, search_places)
 from tests.test_cli import assert_one_line_error, one_json_document
 

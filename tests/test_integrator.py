@@ -1,6 +1,6 @@
 """Batch integrator: CBTmin against scipy's DOP853 at each model's default step, batches, failures.
 
-The reference is :func:`planner.reference.reference_solution` (``solve_ivp`` DOP853, rtol 1e-10,
+The reference is :func:`planner.engine.reference.reference_solution` (``solve_ivp`` DOP853, rtol 1e-10,
 integrated piece by piece of constant light, CBTmin by event detection).  Every schedule below
 puts its light edges off the step grid, and the checks assert that precondition.
 """
@@ -14,13 +14,13 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
-
 from conftest import MODELS, T0, at
-from planner.integrate import STATUS_NONFINITE, STATUS_SUCCESS, default_step_h, simulate
-from planner.light import LightSchedule, ambient, light_box, sample_on_grid, sleep
-from planner.markers import cbtmin_times
-from planner.parameters import load_model
-from planner.reference import reference_solution
+
+from planner.engine.integrate import STATUS_NONFINITE, STATUS_SUCCESS, default_step_h, simulate
+from planner.engine.markers import cbtmin_times
+from planner.engine.parameters import load_model
+from planner.engine.reference import reference_solution
+from planner.world.light import LightSchedule, ambient, light_box, sample_on_grid, sleep
 
 DAYS = 4
 

@@ -4,10 +4,12 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
-from planner import LightSchedule, ambient, cbtmin_times, entrain, light_box, load_model, simulate, sleep
-from planner.reference import reference_solution
+from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, simulate, sleep
+from planner.engine.entrainment import entrain
+from planner.engine.reference import reference_solution
 
 T0 = datetime(2027, 1, 4, tzinfo=timezone.utc)
 MODELS = ["forger1999", "jewett1999", "hannay2019"]

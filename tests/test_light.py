@@ -8,12 +8,22 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
-from hypothesis import assume, given, settings, strategies as st
-
 from conftest import T0, at
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
+
 from planner.errors import ScheduleError
-from planner.light import (EDGE_TOLERANCE_H, LightLayer, LightSchedule, ambient, dark_glasses, hours_between,
-                           light_box, sample_on_grid, sleep)
+from planner.world.light import (
+    EDGE_TOLERANCE_H,
+    LightLayer,
+    LightSchedule,
+    ambient,
+    dark_glasses,
+    hours_between,
+    light_box,
+    sample_on_grid,
+    sleep,
+)
 
 
 def lux(schedule: LightSchedule, *hours: float) -> list[float]:

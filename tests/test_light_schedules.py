@@ -5,10 +5,11 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from planner import LightSchedule, ScheduleError, ambient, dark_glasses, light_box, sample_on_grid, sleep
-from planner.light import LightLayer, hours_between
+from planner.world.light import LightLayer, hours_between
 
 T0 = datetime(2027, 1, 4, tzinfo=timezone.utc)
 

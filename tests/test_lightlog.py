@@ -8,20 +8,19 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
+from conftest import lisbon_trip_toml
 from typer.testing import CliRunner
 
 from planner import load_model
 from planner.cli import app
+from planner.engine.entrainment import place_pattern
+from planner.engine.integrate import simulate
+from planner.engine.markers import HOURS_PER_DAY, TWO_PI
 from planner.errors import InputError
-from planner.evidence import PersonEvidence, starting_phase
-from planner.integrate import simulate
-from planner.light import LightSchedule, ambient, sleep
-from planner.lightlog import read_light_log
-from planner.markers import HOURS_PER_DAY, TWO_PI
-from planner.scenario import load_trip
-from planner.trip import place_pattern
-
-from conftest import lisbon_trip_toml
+from planner.trips.evidence import PersonEvidence, starting_phase
+from planner.trips.scenario import load_trip
+from planner.world.light import LightSchedule, ambient, sleep
+from planner.world.lightlog import read_light_log
 
 LISBON = ZoneInfo("Europe/Lisbon")
 #: The invented week of the tests: a late sleeper in Lisbon, 2027-05-03 to 2027-05-09.
@@ -77,7 +76,7 @@ def test_estimated_phase_matches_simulating_the_schedule_the_log_was_made_from(t
     estimated = starting_phase(trip, model, info.person)
     # Reference: entrained to the habitual day at the log's first midnight, then the known schedule, then
     # the habitual day until the plan starts (the documented assumed start and gap fill).
-    from planner.entrainment import entrain
+    from planner.engine.entrainment import entrain
     pattern = place_pattern(trip.home, trip.light)
     start_state = entrain(model, pattern).state
     after_log = simulate(model, schedule, start_state).final_state
@@ -184,7 +183,7 @@ def test_person_table_is_checked(tmp_path):
 
 
 def test_the_light_log_demo_reports_what_its_log_contains():
-    from planner.scenario import demo_path
+    from planner.trips.scenario import demo_path
     trip, info = load_trip(demo_path("porto-singapore-lightlog"))
     start = starting_phase(trip, load_model(info.model), info.person)
     assert start.source == "light_log"
@@ -203,7 +202,7 @@ def test_dlmo_after_the_plan_starts_is_exit_2_naming_the_file(tmp_path):
 
 
 def test_population_starting_dlmo_spreads_by_the_assay_uncertainty(tmp_path):
-    from planner.robust import draw_people
+    from planner.trips.robust import draw_people
     model = load_model("hannay2019")
     trip, info = load_trip(scenario(tmp_path, '[person]\ndlmo = "22:00"\ndlmo_sd_min = 30'))
     people = draw_people(model, 200, seed=4, evidence=info.person)
@@ -214,6 +213,6 @@ def test_population_starting_dlmo_spreads_by_the_assay_uncertainty(tmp_path):
     # median 21:41, p10-p90 range 1.44 h)
     assert abs(np.median(dlmo) - 22.0) < 0.5
     # the 10th-90th percentile range of a normal with SD 30 min is 2·1.2816·0.5 = 1.28 h (the stated assay
-    # uncertainty, planner.evidence.DLMO_SD_MIN); a day of individual drift may widen or narrow it a little
+    # uncertainty, planner.trips.evidence.DLMO_SD_MIN); a day of individual drift may widen or narrow it a little
     spread = np.percentile(dlmo, 90) - np.percentile(dlmo, 10)
     assert 0.9 < spread < 1.8

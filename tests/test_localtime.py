@@ -19,7 +19,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from planner.errors import InputError, PhaseplanError
-from planner.localtime import local_day_bounds, parse_clock, resolve_local, to_utc, zone
+from planner.world.localtime import local_day_bounds, parse_clock, resolve_local, to_utc, zone
 
 HOUR = timedelta(hours=1)
 

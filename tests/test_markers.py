@@ -7,13 +7,14 @@ from datetime import timedelta
 
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
-
 from conftest import T0
-from planner.integrate import simulate
-from planner.light import LightSchedule
-from planner.markers import cbtmin_times, daily_markers, dlmo_times, phase_difference, reentrainment
-from planner.parameters import load_model
+from hypothesis import given
+from hypothesis import strategies as st
+
+from planner.engine.integrate import simulate
+from planner.engine.markers import cbtmin_times, daily_markers, dlmo_times, phase_difference, reentrainment
+from planner.engine.parameters import load_model
+from planner.world.light import LightSchedule
 
 clock = st.floats(-1e4, 1e4, allow_nan=False, allow_infinity=False)
 

@@ -6,11 +6,11 @@ import re
 
 import numpy as np
 import pytest
-
 from conftest import MODELS
+
+from planner.engine.oscillators import FAMILIES
+from planner.engine.parameters import available_models, builtin_model_paths, load_model, read_model_file
 from planner.errors import InputError, UnknownModelError
-from planner.oscillators import FAMILIES
-from planner.parameters import available_models, builtin_model_paths, load_model, read_model_file
 from planner.tomlfile import InputFileError
 
 # DOIs as registered for the three papers (the journal's records)
@@ -151,7 +151,7 @@ def test_a_built_in_file_renamed_away_from_its_id_is_refused(tmp_path, monkeypat
     folder.mkdir()
     (folder / "other.toml").write_text(builtin_model_paths()["forger1999"].read_text(encoding="utf-8"),
                                        encoding="utf-8")
-    monkeypatch.setattr("planner.parameters.builtin_model_paths",
+    monkeypatch.setattr("planner.engine.parameters.builtin_model_paths",
                         lambda: {path.stem: path for path in folder.glob("*.toml")})
     with pytest.raises(InputFileError) as info:
         load_model("other")

@@ -4,9 +4,11 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
-from planner import entrain, free_running_period, load_model, phase_difference, reentrainment
+from planner import free_running_period, load_model, phase_difference, reentrainment
+from planner.engine.entrainment import entrain
 
 
 @given(st.floats(-1000, 1000), st.floats(-1000, 1000))

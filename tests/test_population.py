@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 
 from planner import free_running_period, load_model
+from planner.engine.population import draw_population, intrinsic_period_values, spread
 from planner.errors import InputError
-from planner.population import draw_population, intrinsic_period_values, spread
 
 
 @pytest.mark.parametrize("model_id", ["forger1999", "jewett1999", "hannay2019"])

@@ -8,21 +8,20 @@ from datetime import timedelta
 
 import numpy as np
 import pytest
+from conftest import T0, lisbon_trip_toml
 from typer.testing import CliRunner
 
-import planner.cli
+import planner.service
 from planner import load_model
 from planner.cli import app
-from planner.entrainment import entrain
-from planner.integrate import simulate
-from planner.light import LightSchedule
-from planner.markers import cbtmin_times
-from planner.population import (Population, draw_population, population_success, simulate_population, with_people)
-from planner.robust import model_ensemble, population_report, robust_plan
-from planner.scenario import load_trip
-from planner.tripplan import plan_trip
-
-from conftest import T0, lisbon_trip_toml
+from planner.engine.entrainment import entrain
+from planner.engine.integrate import simulate
+from planner.engine.markers import cbtmin_times
+from planner.engine.population import Population, draw_population, population_success, simulate_population, with_people
+from planner.trips.robust import model_ensemble, population_report, robust_plan
+from planner.trips.scenario import load_trip
+from planner.trips.search import plan_trip
+from planner.world.light import LightSchedule
 
 #: An invented trip six time zones east with no preparation and no outdoor light, so that only the
 #: light box can help; planned for the advance only, which keeps each plan to a second or two.
@@ -78,7 +77,7 @@ def test_candidates_times_people_batch_is_laid_out_candidate_major(model):
         alone = people.model.with_values(**{k: float(np.asarray(v)[person]) for k, v in people.model.values.items()
                                             if np.ndim(v) == 1})
         single = simulate(alone, [dim, bright][candidate], start)
-        # the documented layout (planner.population.simulate_population): column j = candidate j // N, person j % N
+        # the documented layout (planner.engine.population.simulate_population): column j = candidate j // N, person j % N
         np.testing.assert_allclose(batch.final_state[:, j], single.final_state[:, 0], rtol=1e-12, atol=1e-12)
 
 
@@ -96,7 +95,7 @@ def test_population_success_summary():
 def test_light_sensitivity_spread_is_lognormal_with_the_stated_sd(model):
     people = draw_population(model, 4000, seed=11, sensitivity_sd_ln=0.5)
     logs = np.log(people.sensitivity)
-    # the planner's stated assumption (planner.population): ln(scale) ~ N(0, 0.5); sampling error ~0.008
+    # the planner's stated assumption (planner.engine.population): ln(scale) ~ N(0, 0.5); sampling error ~0.008
     assert abs(logs.mean()) < 0.03 and abs(logs.std() - 0.5) < 0.03
     np.testing.assert_allclose(np.asarray(people.model.values["alpha0"]), 0.05 * people.sensitivity)   # α0 of
     # forger1999 is 0.05 /min (Forger et al. 1999, J Biol Rhythms 14:533)
@@ -138,7 +137,7 @@ def test_robust_search_never_scores_worse_than_the_average_plan(six_east, model)
     trip, _, result = six_east[30]
     found = robust_plan(trip, model, result, people=8, seed=1, maxiter=2)
     # the refinement starts from the average-person plan and keeps it unless something scores better
-    # (design of planner.robust.robust_plan)
+    # (design of planner.trips.robust.robust_plan)
     assert found.strategy == "advance"
     assert found.search.score <= found.seed_search.score
     assert found.search.size == 8 and found.simulated > 0
@@ -158,7 +157,7 @@ def test_model_ensemble_runs_each_model_from_its_own_start(six_east):
 
 def test_trip_json_carries_population_robust_and_ensemble(six_east, monkeypatch):
     _, path, _ = six_east[30]
-    monkeypatch.setattr(planner.cli, "robust_plan", functools.partial(robust_plan, people=6, maxiter=1))
+    monkeypatch.setattr(planner.service, "robust_plan", functools.partial(robust_plan, people=6, maxiter=1))
     result = CliRunner().invoke(app, ["trip", str(path), "--strategy", "advance", "--people", "12", "--seed", "2",
                                       "--robust", "--models", "forger1999,jewett1999", "--json"])
     assert result.exit_code == 0, result.stderr

@@ -90,7 +90,7 @@ def test_half_maximal_delay_of_a_six_and_a_half_hour_exposure(name):
 
 
 def test_all_pulse_phases_run_as_one_batch(monkeypatch):
-    import planner.prc as prc_module
+    import planner.engine.prc as prc_module
 
     sizes = []
     real = prc_module.simulate

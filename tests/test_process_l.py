@@ -6,14 +6,15 @@ from datetime import timedelta
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from conftest import MODELS, T0
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.integrate import solve_ivp
 
-from conftest import MODELS, T0
-from planner import process_l
-from planner.integrate import simulate
-from planner.light import LightSchedule
-from planner.parameters import load_model
+from planner.engine import process_l
+from planner.engine.integrate import simulate
+from planner.engine.parameters import load_model
+from planner.world.light import LightSchedule
 
 # n∞ = α/(α+β) at 150 lux, science reference section 1 (analytic; figures from a scratch prototype).
 # The formula evaluated with the published parameters gives 0.4558438556 (forger1999) and

@@ -4,11 +4,12 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from planner import LightSchedule, load_model, simulate
-from planner import process_l
-from planner.entrainment import guess_state
+from planner.engine import process_l
+from planner.engine.entrainment import guess_state
 
 # n settles at alpha/(alpha + beta) under constant light; the values at 150 lux are the
 # science reference's figures (analytic).  They agree with the formula evaluated here to about

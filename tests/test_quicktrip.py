@@ -11,8 +11,8 @@ import pytest
 from typer.testing import CliRunner
 
 from planner.cli import app
-from planner.quicktrip import load_quick_trip, parse_sleep, quick_trip_scenario
-from planner.scenario import load_trip
+from planner.trips.quick import load_quick_trip, parse_sleep, quick_trip_scenario
+from planner.trips.scenario import load_trip
 from tests.test_cli import assert_one_line_error, one_json_document
 
 # An invented traveller: Sydney to London in the southern autumn; the flight's times are each on the

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from planner import free_running_period, read_model_file
-from planner.scenario import load_trip
+from planner.trips.scenario import load_trip
 
 REPO = Path(__file__).resolve().parent.parent
 README = (REPO / "README.md").read_text(encoding="utf-8")
@@ -80,7 +80,7 @@ def test_ci_runs_the_readme_test_command():
 
 
 def test_roster_file_example_is_valid(tmp_path):
-    from planner.rosterfile import load_roster
+    from planner.rosters.scenario import load_roster
     example = next(block for block in code_blocks("toml") if block.startswith('kind = "roster"'))
     path = tmp_path / "halden.toml"
     path.write_text(example, encoding="utf-8")

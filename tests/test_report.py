@@ -21,14 +21,14 @@ from zoneinfo import ZoneInfo
 import matplotlib.colors
 import pytest
 from PIL import Image
-
-from planner.cautions import CAUTIONS, SHIFT_CAUTIONS, TRIP_CAUTIONS
-from planner.errors import InputError
-from planner.plandoc import DayRow, PlanDocument, PlanEvent, Section, document_from_trip
-from planner.report import STYLE, chart_bytes, chart_format, phase_figure, report_html
-
 from test_calendar import run, stored_plans  # noqa: F401  (the fixture is used by name)
 from test_cli import one_json_document
+
+from planner.errors import InputError
+from planner.plans.cautions import CAUTIONS, SHIFT_CAUTIONS, TRIP_CAUTIONS
+from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section
+from planner.plans.report import STYLE, chart_bytes, chart_format, phase_figure, report_html
+from planner.trips.document import document_from_trip
 
 UTC = timezone.utc
 WEST_DEMO = "frankfurt-vancouver"

@@ -11,12 +11,12 @@ from typer.testing import CliRunner
 
 from planner import load_model
 from planner.cli import app
-from planner.roster import Draft, Roster, ShiftType, roster_days
-from planner.rosterfile import load_roster
+from planner.rosters.model import Draft, Roster, ShiftType, roster_days
+from planner.rosters.scenario import load_roster
+from planner.rosters.search import plan_for, plan_roster
+from planner.rosters.views import day_views, text_chart
 from planner.tomlfile import InputFileError
-from planner.rosterplan import plan_for, plan_roster
-from planner.rosterview import day_views, text_chart
-from planner.trip import Place
+from planner.world.places import Place
 
 REPO = Path(__file__).resolve().parent.parent
 DEMOS = sorted((REPO / "scenarios").glob("*.toml"))
@@ -256,7 +256,7 @@ def test_two_crews_with_one_name_are_refused(tmp_path):
 
 
 def test_phase_angle_of_sleep_is_wake_minus_the_nearest_cbtmin(minimal_plan):
-    from planner.rosterview import phase_angles
+    from planner.rosters.views import phase_angles
     utc = ZoneInfo("UTC")
     bed, wake = datetime(2027, 3, 1, 23, tzinfo=utc), datetime(2027, 3, 2, 7, tzinfo=utc)
     marks = [datetime(2027, 3, 1, 4, 30, tzinfo=utc), datetime(2027, 3, 2, 4, 30, tzinfo=utc)]

@@ -4,16 +4,15 @@ import html
 import json
 import re
 from datetime import timezone
+from pathlib import Path
 
 import icalendar
 import pytest
+from test_calendar import icalendar_events, to_second, vobject_events  # shared readers of calendar files
+from test_report import PROBE, browser, headless
 from typer.testing import CliRunner
 
 from planner.cli import app
-from test_calendar import icalendar_events, to_second, vobject_events   # shared readers of calendar files
-from test_report import PROBE, browser, headless
-
-from pathlib import Path
 
 CRANES = Path(__file__).resolve().parent.parent / "scenarios" / "harbour-cranes.toml"
 UTC = timezone.utc

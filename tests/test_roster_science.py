@@ -12,9 +12,10 @@ import numpy as np
 import pytest
 
 from planner import load_model
-from planner.roster import Countermeasures, Draft, Roster, RosterPlan, ShiftType, roster_days
-from planner.rosterplan import RosterEvaluator, plan_roster
-from planner.trip import Place, Window
+from planner.rosters.model import Countermeasures, Draft, Roster, RosterPlan, ShiftType, roster_days
+from planner.rosters.search import RosterEvaluator, plan_roster
+from planner.world.light import Window
+from planner.world.places import Place
 
 MODELS = ["forger1999", "jewett1999", "hannay2019"]
 #: An invented site for the protocols (laboratory studies: the place only sets daylight on commutes).
@@ -142,7 +143,7 @@ def test_population_with_longer_intrinsic_periods_drifts_later_on_nights():
     model = load_model("forger1999")
     result = plan_roster(roster, model, "nights", workers=60, seed=3, sensitivity_sd_ln=0.0)
     population = result.drafts[0].population
-    from planner.population import draw_population
+    from planner.engine.population import draw_population
     tau = draw_population(model, 60, 3).tau_h
     last = population.metrics.cbtmin[:, 4]
     ok = np.isfinite(last)
@@ -162,8 +163,8 @@ def test_a_worker_at_the_edge_of_entrainment_does_not_fail_a_population_run():
     # A long intrinsic period with a weak light drive may not entrain to an ordinary day (the range of
     # entrainment shrinks with the zeitgeber's strength; from memory); such a drawn worker keeps the
     # state the free day gives them instead of failing everyone's run.
-    from planner.population import with_people
-    from planner.rosterplan import reference
+    from planner.engine.population import with_people
+    from planner.rosters.search import reference
     draft = Draft("nights", ("N",) * 3, 1)
     roster = Roster("edge", CHICAGO, date(2027, 7, 5), (NIGHT,), (draft,))
     model = with_people(load_model("forger1999"), np.array([24.15, 24.9]), np.array([1.0, 0.05]))

@@ -16,11 +16,11 @@ import pytest
 from typer.testing import CliRunner
 
 from planner.cli import app
-from planner.parameters import load_model
-from planner.rosterfile import load_roster
-from planner.rosterplan import plan_roster
-from planner.rostersheet import load_roster_sheets, sheet_ref, shortest_period, template_workbook
-from planner.scenario import PLACE_FIELDS
+from planner.engine.parameters import load_model
+from planner.rosters.scenario import load_roster
+from planner.rosters.search import plan_roster
+from planner.rosters.sheet import load_roster_sheets, sheet_ref, shortest_period, template_workbook
+from planner.scenariofile import PLACE_FIELDS
 from planner.tomlfile import InputFileError
 from tests.test_cli import assert_one_line_error, one_json_document
 

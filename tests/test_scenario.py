@@ -10,14 +10,13 @@ from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
 import pytest
+from test_cli import assert_one_line_error, one_json_document
 from typer.testing import CliRunner
 
 from planner.cli import app
-from planner.scenario import DEFAULT_DEMO, builtin_scenario_paths, demo_path, load_trip
 from planner.tomlfile import InputFileError
-from planner.trip import trip_days
-
-from test_cli import assert_one_line_error, one_json_document
+from planner.trips.model import trip_days
+from planner.trips.scenario import DEFAULT_DEMO, builtin_scenario_paths, demo_path, load_trip
 
 REPO = Path(__file__).resolve().parent.parent
 SCENARIOS = REPO / "scenarios"

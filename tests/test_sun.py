@@ -38,9 +38,19 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from planner.errors import InputError
-from planner.sun import (SUNRISE_ZENITH_DEG, SunTimes, daylight_intervals, equation_of_time_min, julian_day,
-                         solar_declination_deg, solar_elevation_deg, solar_position, solar_right_ascension_deg,
-                         sun_times, sunrise_hour_angle_deg)
+from planner.world.sun import (
+    SUNRISE_ZENITH_DEG,
+    SunTimes,
+    daylight_intervals,
+    equation_of_time_min,
+    julian_day,
+    solar_declination_deg,
+    solar_elevation_deg,
+    solar_position,
+    solar_right_ascension_deg,
+    sun_times,
+    sunrise_hour_angle_deg,
+)
 
 UTC = timezone.utc
 HORIZON_DEG = 90.0 - SUNRISE_ZENITH_DEG

@@ -1,7 +1,7 @@
 """Trip planning against published light responses and common practice, and the `trip`/`demo` commands.
 
 Each demo trip (scenarios/, invented travellers) is planned once per session (``demo_plans``);
-the command-line tests reuse those plans through a stand-in for ``planner.cli.plan_trip`` that
+the command-line tests reuse those plans through a stand-in for ``planner.service.search_trip`` that
 returns the stored result for the same trip, so formatting is tested without planning again.
 One end-to-end run in a subprocess plans the short demo for real.
 """
@@ -17,17 +17,18 @@ from pathlib import Path
 import astral
 import astral.sun
 import pytest
+from test_cli import one_json_document
 from typer.testing import CliRunner
 
-import planner.cli
+import planner.service
 from planner import load_model
 from planner.cli import app
-from planner.localtime import resolve_local, to_utc, zone
-from planner.scenario import builtin_scenario_paths
-from planner.trip import Flight, LightOptions, Place, Plan, Trip, Window, habitual_sleep, trip_days, where_at
-from planner.tripplan import REENTRAINMENT_TOLERANCE_H, Evaluator, TripPlanner
-
-from test_cli import one_json_document
+from planner.trips.model import Flight, Plan, Trip, habitual_sleep, trip_days, where_at
+from planner.trips.scenario import builtin_scenario_paths
+from planner.trips.search import REENTRAINMENT_TOLERANCE_H, Evaluator, TripPlanner
+from planner.world.light import LightOptions, Window
+from planner.world.localtime import resolve_local, to_utc, zone
+from planner.world.places import Place
 
 REPO = Path(__file__).resolve().parent.parent
 SCENARIOS = REPO / "scenarios"
@@ -56,7 +57,7 @@ def demo_plans(planned_demos):
 @pytest.fixture
 def stored_plans(demo_plans, monkeypatch):
     """Let the CLI reuse the module's plans for the same trip (auto strategy, forger1999)."""
-    real = planner.cli.plan_trip
+    real = planner.service.search_trip
 
     def stand_in(trip, model, strategy="auto", **kwargs):
         for stored_trip, _, result in demo_plans.values():
@@ -64,7 +65,7 @@ def stored_plans(demo_plans, monkeypatch):
                 return result
         return real(trip, model, strategy, **kwargs)
 
-    monkeypatch.setattr(planner.cli, "plan_trip", stand_in)
+    monkeypatch.setattr(planner.service, "search_trip", stand_in)
     return demo_plans
 
 

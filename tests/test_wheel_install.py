@@ -16,9 +16,9 @@ def test_models_load_from_an_installed_wheel(tmp_path):
     wheel = next(wheels.glob("phaseplan-*.whl"))
     subprocess.run([sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", str(target),
                     str(wheel)], check=True)
-    probe = ("import json, planner; from planner.parameters import available_models, load_model; "
-             "from planner.scenario import builtin_scenario_paths, load_trip; "
-             "from planner.rosterfile import builtin_roster_paths, load_roster; "
+    probe = ("import json, planner; from planner.engine.parameters import available_models, load_model; "
+             "from planner.trips.scenario import builtin_scenario_paths, load_trip; "
+             "from planner.rosters.scenario import builtin_roster_paths, load_roster; "
              "print(json.dumps({'file': planner.__file__, "
              "'models': {m: load_model(m).file.citation.doi for m in available_models()}, "
              "'scenarios': {k: [str(p), load_trip(p)[1].name] for k, p in builtin_scenario_paths().items()} | "

@@ -1,0 +1,342 @@
+"""A roster plan cut into days on the site's clock, and a compact text chart of it.
+
+Shared by the command line and later calendars and reports; nothing here computes science:
+every number comes from :mod:`planner.rosters.search`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import datetime, timedelta, timezone
+
+import numpy as np
+
+from planner.engine.population import DUFFY2011_CITATION
+from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
+from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section, stable_id
+from planner.rosters.model import Roster, RosterDay, RosterPlan, crew_draft, roster_days
+from planner.rosters.search import (
+    ANCHOR_SLEEP_H,
+    SHORT_NAMES,
+    STRATEGY_CITATIONS,
+    STRATEGY_NAMES,
+    Metrics,
+    Settings,
+    describe_settings,
+    plan_for,
+)
+from planner.world.light import Window
+from planner.world.localtime import zone_label
+
+#: A sleep or window belongs to the day holding its start less this (a sleep from 00:30 is the
+#: night of the evening before), as in :mod:`planner.trips.views`.
+NIGHT_BELONGS_BACK = timedelta(hours=6)
+
+#: Symbols of the text chart, in the order they overwrite each other (later wins).
+CHART_SYMBOLS = (("sleep", "="), ("work", "#"), ("bright light", "*"), ("dark glasses", "o"), ("CBTmin", "V"))
+
+
+@dataclass(frozen=True)
+class RosterDayView:
+    """One day of a worker's plan with its predicted markers (UTC instants)."""
+
+    day: RosterDay
+    sleep: tuple[tuple[datetime, datetime], ...]
+    bright: tuple[Window, ...]
+    avoid: tuple[Window, ...]
+    cbtmin: datetime | None
+    dlmo: datetime | None
+    work_low_h: float
+    burden_h: float
+    adapted: bool
+    #: For each sleep: wake time minus the CBTmin nearest the sleep's middle [h] (the phase angle of
+    #: sleep to the clock; about +2 to +3 h on a habitual night, negative when CBTmin falls after waking).
+    sleep_phase_angle_h: tuple[float, ...] = ()
+
+
+def phase_angles(sleeps, marks: list[datetime]) -> tuple[float, ...]:
+    """Wake minus the CBTmin nearest each sleep's middle [h]; NaN without a CBTmin."""
+    angles = []
+    for bed, wake in sleeps:
+        middle = bed + (wake - bed) / 2
+        nearest = min(marks, key=lambda m: abs((m - middle).total_seconds()), default=None)
+        angles.append((wake - nearest).total_seconds() / 3600.0 if nearest is not None else math.nan)
+    return tuple(angles)
+
+
+def _owner(days, moment: datetime, back: timedelta = timedelta(0)) -> int | None:
+    """Index of the day holding ``moment - back``; None before the draft, the last day after it."""
+    shifted = moment - back
+    if shifted < days[0].start:
+        return None
+    return next((day.index for day in days if shifted < day.end), days[-1].index)
+
+
+def day_views(days: list[RosterDay], plan: RosterPlan, metrics: Metrics, epoch: datetime, column: int = 0
+              ) -> list[RosterDayView]:
+    """The plan of one worker (``column`` of ``metrics``) cut into its days."""
+    sleep: dict[int | None, list] = {d.index: [] for d in days} | {None: []}
+    bright: dict[int | None, list] = {d.index: [] for d in days} | {None: []}
+    avoid: dict[int | None, list] = {d.index: [] for d in days} | {None: []}
+    for episode in plan.sleep:   # the night before the draft (owner None) is not shown
+        sleep[_owner(days, episode[0], NIGHT_BELONGS_BACK)].append(episode)
+    for window in plan.bright:
+        bright[_owner(days, window.start)].append(window)
+    for window in plan.avoid:
+        avoid[_owner(days, window.start)].append(window)
+
+    def moment(hours: float) -> datetime | None:
+        return epoch + timedelta(hours=float(hours)) if math.isfinite(hours) else None
+
+    marks = [m for m in (moment(h) for h in metrics.cbtmin[column]) if m is not None]
+    views = []
+    for day in days:
+        cbt = moment(metrics.cbtmin[column, day.index])
+        views.append(RosterDayView(day, tuple(sorted(sleep[day.index])),
+                                   tuple(sorted(bright[day.index], key=lambda w: w.start)),
+                                   tuple(sorted(avoid[day.index], key=lambda w: w.start)), cbt,
+                                   moment(metrics.dlmo[column, day.index]),
+                                   float(metrics.work_low_day_h[column, day.index]),
+                                   float(metrics.day_burden_h[column, day.index]),
+                                   bool(metrics.adapted[column, day.index]),
+                                   phase_angles(sorted(sleep[day.index]), marks)))
+    return views
+
+
+def text_chart(roster: Roster, views: list[RosterDayView], *, first_hour: float = 12.0,
+               cell_minutes: float = 30.0) -> list[str]:
+    """One line per day from ``first_hour`` to the same hour the next day on the site's clock.
+
+    Cells show sleep ``=``, work ``#``, bright light ``*``, dark glasses ``o`` and CBTmin ``V``
+    (:data:`CHART_SYMBOLS`; a later symbol overwrites an earlier one in the same cell).
+    """
+    cells = int(round(24 * 60 / cell_minutes))
+    step = timedelta(minutes=cell_minutes)
+    symbol = dict(CHART_SYMBOLS)
+    all_sleep = [s for v in views for s in v.sleep]
+    all_bright = [(w.start, w.end) for v in views for w in v.bright]
+    all_avoid = [(w.start, w.end) for v in views for w in v.avoid]
+    work = [v.day.work for v in views if v.day.work is not None]
+    marks = [v.cbtmin for v in views if v.cbtmin is not None]
+    ticks = "".join("|" if (k * cell_minutes / 60.0) % 6 == 0 else " " for k in range(cells))
+    hours = [f"{(first_hour + h) % 24:02.0f}" for h in range(0, 24, 6)]
+    scale = "".join(h.ljust(int(6 * 60 / cell_minutes)) for h in hours)
+    lines = [f"{'':10} {scale}", f"{'':10} {ticks}"]
+    for view in views:
+        origin = roster.at(view.day.date, first_hour)
+        row = [" "] * cells
+        for name, spans in (("sleep", all_sleep), ("work", work), ("bright light", all_bright),
+                            ("dark glasses", all_avoid)):
+            for k in range(cells):
+                middle = origin + (k + 0.5) * step
+                if any(s <= middle < e for s, e in spans):
+                    row[k] = symbol[name]
+        for mark in marks:
+            k = int((mark - origin) / step)
+            if 0 <= k < cells:
+                row[k] = symbol["CBTmin"]
+        label = f"{view.day.date.strftime('%a %d')} {view.day.label:>3}"
+        lines.append(f"{label:10} {''.join(row)}")
+    return lines
+
+
+def chart_legend() -> str:
+    return "  ".join(f"{sym} {name}" for name, sym in CHART_SYMBOLS)
+
+
+# --------------------------------------------------------------------------- plan document (calendars, reports)
+
+def _purpose(window: Window, strategy: str) -> tuple[str, str, str]:
+    """(summary, action, purpose) of a light window in plain words."""
+    minutes = round(window.minutes)
+    if window.source == "dark glasses":
+        return ("Avoid light: dark glasses",
+                f"Wear the dark glasses for {minutes} min from the end of the shift until you are indoors (they pass "
+                f"{window.lux:.0%} of the light); take them off to drive in dim light.",
+                "Morning light after a night shift falls after the body clock's minimum (CBTmin) and would move "
+                "the clock earlier, undoing the shift toward daytime sleep; avoiding it keeps the clock moving later.")
+    if window.source == "light box":
+        return ("Bright light: light box at work",
+                f"Work near the light box for {minutes} min ({window.lux:,.0f} lux at the eye), eyes open, without "
+                "staring into the lamp.",
+                "Bright light early in the night shift falls before the body clock's minimum (CBTmin) and moves "
+                "the clock later (a phase delay), toward sleeping in the daytime.")
+    if strategy == "day":
+        purpose = ("Morning daylight after the night shift falls after the body clock's minimum and keeps the "
+                   "clock on day time (it stays day-oriented).")
+    else:
+        purpose = ("Daylight soon after waking falls after the body clock's minimum and keeps it from drifting "
+                   "too late (a light brake; Smith, Fogg & Eastman 2009).")
+    return ("Bright light: daylight outdoors",
+            f"Go outdoors in daylight for {minutes} min (about {window.lux:,.0f} lux); no sunglasses.", purpose)
+
+
+def _crew_events(roster: Roster, draft, plan: RosterPlan, crew_name: str | None) -> list[PlanEvent]:
+    days = roster_days(roster, draft)
+    zone = roster.site.zone
+    items = []
+    for day in days:
+        if day.work is not None:
+            shift = day.shift
+            items.append((day.work, day.date, dict(
+                kind="work", summary=f"Shift {shift.code} ({shift.label})",
+                action=f"Work the {shift.label} shift ({shift.kind}).",
+                purpose="Your rostered shift; the light and sleep around it follow the plan.",
+                source=shift.label, lux=float(roster.work_lux), transmission=None)))
+    for a, b in plan.sleep:
+        owner = _owner(days, a, NIGHT_BELONGS_BACK)
+        if owner is None:
+            continue
+        items.append(((a, b), days[owner].date, dict(
+            kind="sleep", summary="Sleep", action="Lights out and eyes closed; keep the bedroom dark.",
+            purpose=(f"Sleep at these hours is part of the {STRATEGY_NAMES.get(plan.strategy, plan.strategy)} plan; "
+                     "closed eyes also keep light out at the wrong time."),
+            source="sleep", lux=0.0, transmission=None)))
+    for window in plan.bright + plan.avoid:
+        owner = _owner(days, window.start)
+        if owner is None:
+            continue
+        summary, action, purpose = _purpose(window, plan.strategy)
+        glasses = window.source == "dark glasses"
+        items.append(((window.start, window.end), days[owner].date, dict(
+            kind="light_avoidance" if glasses else "bright_light", summary=summary, action=action, purpose=purpose,
+            source=window.source, lux=None if glasses else float(window.lux),
+            transmission=float(window.lux) if glasses else None)))
+    events = []
+    ordinals: dict[tuple, int] = {}
+    prefix = f"{crew_name}/" if crew_name else ""
+    for (start, end), day, fields in sorted(items, key=lambda item: (item[0][0], item[2]["kind"])):
+        ordinal = ordinals[(day, fields["kind"])] = ordinals.get((day, fields["kind"]), 0) + 1
+        events.append(PlanEvent(start=start.astimezone(timezone.utc), end=end.astimezone(timezone.utc), zone=zone,
+                                place=roster.site.name, day=day,
+                                key=f"{prefix}{day.isoformat()}/{fields['kind']}/{ordinal}", **fields))
+    return events
+
+
+def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
+    """Where CBTmin belongs for the main sleep nearest it (naps left out): that sleep's wake less the
+    habitual wake-to-CBTmin gap, i.e. where the habitual sleep holds it."""
+    main = [s for s in plan.sleep if s[1] - s[0] >= timedelta(hours=ANCHOR_SLEEP_H)]
+    if cbtmin is None or not main:
+        return None
+    bed, wake = min(main, key=lambda s: abs((s[0] + (s[1] - s[0]) / 2 - cbtmin).total_seconds()))
+    return wake - timedelta(hours=ref.wake_from_cbtmin_h)
+
+
+def document_from_roster(roster: Roster, info, result, chosen, views: list[RosterDayView]) -> PlanDocument:
+    """A roster plan as a :class:`~planner.plans.document.PlanDocument`: the chosen draft's plan for every crew.
+
+    Parameters
+    ----------
+    roster : Roster
+    info : RosterInfo
+        The file's name and description (the plan id comes from the name).
+    result : RosterResult
+    chosen : DraftResult
+        The draft whose plan becomes the events (the top-ranked one unless another was asked for).
+    views : list of RosterDayView
+        ``day_views`` of the chosen draft's plan for the average worker.
+    """
+    plan = chosen.best.plan
+    settings = Settings(**dict(plan.settings))
+    crews = roster.crews or (None,)
+    groups = {}
+    for crew in crews:
+        draft = chosen.draft if crew is None else crew_draft(chosen.draft, crew)
+        crew_plan = plan if crew is None or draft is chosen.draft else plan_for(roster, draft, plan.strategy, settings)
+        groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
+                                                                 crew.name if crew else None))
+    events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))
+    zone = roster.site.zone
+    rows = []
+    bands = chosen.population.cbtmin_clock_h if chosen.population is not None else None
+    # Rows are calendar dates, as the chart draws them: a date shows the CBTmin of the night before it
+    # (the previous day's "night after"), so the first date has none and one date follows the draft.
+    for k in range(len(views) + 1):
+        before = views[k - 1] if k else None
+        cbtmin = before.cbtmin if before is not None else None
+        target = _target(plan, cbtmin, result.reference)
+        error = (cbtmin - target).total_seconds() / 3600.0 if target is not None else math.nan
+        band = None
+        if before is not None and bands is not None and np.all(np.isfinite(bands[before.day.index])):
+            band = tuple(float(v) for v in bands[before.day.index])
+        if k < len(views):
+            day = views[k].day
+            when, label = day.date, day.label if day.work is None else f"{day.label} ({day.shift.kind})"
+        else:
+            when, label = views[-1].day.date + timedelta(days=1), "after the draft"
+        start = roster.at(when, 0.0).astimezone(zone)
+        rows.append(DayRow(when, zone, zone_label(start), label, roster.site.name, cbtmin, target,
+                           "the plan's sleep", error, band))
+    comparison = []
+    for name, outcome in list(chosen.strategies.items()) + [("none", chosen.baseline)]:
+        weeks = len(chosen.days) / 7.0
+        comparison.append({"strategy": STRATEGY_NAMES[name], "score h/wk": f"{outcome.score:.1f}",
+                           "work in low h/wk": f"{outcome.metrics.work_low_h[0] / weeks:.1f}",
+                           "biological night awake h/wk": f"{outcome.metrics.awake_in_night_h[0] / weeks:.1f}",
+                           "what the search found": describe_settings(outcome.plan)})
+    recommended = list(chosen.strategies).index(chosen.chosen)
+    if chosen.robust is not None:
+        robust = chosen.robust
+        weeks = len(chosen.days) / 7.0
+        comparison.append({"strategy": f"robust over {robust.people} workers: {STRATEGY_NAMES[robust.outcome.strategy]}",
+                           "score h/wk": f"{robust.outcome.score:.1f}",
+                           "work in low h/wk": f"{robust.outcome.metrics.work_low_h[0] / weeks:.1f}",
+                           "biological night awake h/wk": f"{robust.outcome.metrics.awake_in_night_h[0] / weeks:.1f}",
+                           "what the search found": (f"{describe_settings(robust.outcome.plan)}; population mean "
+                                                     f"{robust.mean_score:.1f} against {robust.average_mean_score:.1f} "
+                                                     "for the average worker's plan")})
+        recommended = len(comparison) - 1
+    ranked = Section("Drafts ranked, least disruptive first",
+                     ("#", "draft", "pattern", "strategy", "score h/wk", "no plan"),
+                     tuple((str(k + 1), d.draft.name, " ".join(c or "off" for c in d.draft.pattern) +
+                            f" ×{d.draft.cycles}", SHORT_NAMES[d.best_strategy], score_text(d), f"{d.baseline.score:.1f}")
+                           for k, d in enumerate(result.drafts)),
+                     note=("score: hours per week of work within ±3 h of CBTmin plus biological night spent awake"
+                           + (", population median [10th–90th percentile]" if chosen.population else "")))
+    sections = [ranked]
+    if chosen.population is not None:
+        pop = chosen.population
+        sections.append(Section(
+            f"Across {pop.size} simulated workers ({chosen.draft.name})", ("measure", "10th", "median", "90th"),
+            tuple((label, f"{values['p10']:.1f}", f"{values['median']:.1f}", f"{values['p90']:.1f}")
+                  for label, values in (("intrinsic period [h]", pop.tau_h), ("score [h/wk]", pop.score),
+                                        ("work in the low [h]", pop.work_low_h),
+                                        ("mean days to adapt", pop.mean_days_to_adapt))),
+            note=f"intrinsic periods from Duffy et al. 2011 (24.15 ± 0.20 h), seed {pop.seed}"))
+    shifts = ", ".join(f"{s.code} {s.label} {_hm_clock(s.start_h)}–{_hm_clock(s.end_h)}" for s in roster.shifts)
+    summary = [("crew", info.name)]
+    if info.description:
+        summary.append(("about", info.description))
+    summary += [("site", f"{roster.site.name} ({zone})"), ("shifts", shifts),
+                ("draft shown", f"{chosen.draft.name}: " + " ".join(c or "off" for c in chosen.draft.pattern)
+                 + f" ×{chosen.draft.cycles}"),
+                ("strategy", f"{STRATEGY_NAMES[plan.strategy]}: {describe_settings(plan)}"
+                             + (" (robust over a population)" if chosen.robust is not None else "")),
+                ("ranking", result.reason)]
+    if roster.crews:
+        summary.append(("crews", ", ".join(f"{c.name} (from day {c.offset_days % len(chosen.draft.pattern) + 1} "
+                                           "of the pattern)" for c in roster.crews)))
+    citations = tuple(result.citations) + tuple(STRATEGY_CITATIONS[name] for name in chosen.strategies)
+    if chosen.population is not None:
+        citations += (DUFFY2011_CITATION,)
+    return PlanDocument(
+        plan_id=stable_id("roster", info.name), title=info.name, summary=tuple(summary), events=events,
+        days=tuple(rows), comparison=tuple(comparison), recommended=recommended,
+        cautions=tuple(cautions_for(SHIFT_CAUTIONS)), citations=citations, kind="roster",
+        groups={name: group for name, group in groups.items() if name is not None},
+        sections=tuple(sections), message=result.message)
+
+
+def score_text(result) -> str:
+    """A draft's score for tables: the population median [10th–90th percentile], else the average worker's."""
+    if result.population is not None:
+        s = result.population.score
+        return f"{s['median']:.1f} [{s['p10']:.1f}–{s['p90']:.1f}]"
+    return f"{result.best.score:.1f}"
+
+
+def _hm_clock(hours: float) -> str:
+    minutes = round(hours * 60) % (24 * 60)
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"

@@ -1,0 +1,290 @@
+"""Trips across time zones: the traveller's days, light, baseline and plan simulation.
+
+A :class:`Trip` is a home place, one or more flights and the light the traveller
+can get.  :func:`trip_days` cuts the trip into days, each in the local time of
+where the traveller is (a travel day runs from the origin's midnight to the
+next midnight at the arrival place after landing).  :func:`plan_schedule`
+turns a :class:`Plan` (sleep episodes, bright-light and light-avoidance
+windows) into the light at the eye, layered as: indoor light, ordinary
+daylight, the plan's bright light, cabin light in flight, the plan's dark
+glasses, then sleep (eyes shut wins).
+
+Everything is computed in UTC; local times are for display.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from datetime import date, datetime, timedelta, timezone
+from functools import cached_property, lru_cache
+from typing import Literal, Sequence
+
+import numpy as np
+
+from planner.engine.entrainment import BASELINE_OUTDOOR_H, entrain, place_pattern
+from planner.engine.markers import HOURS_PER_DAY
+from planner.engine.parameters import ModelSpec
+from planner.errors import ComputationError, InputError
+from planner.world.light import (
+    LightLayer,
+    LightOptions,
+    LightSchedule,
+    Window,
+    ambient,
+    dark_glasses,
+    hours_between,
+    light_box,
+    sleep,
+)
+from planner.world.places import Place, sun_up
+
+UTC = timezone.utc
+
+#: Hours before departure by which the traveller is up (getting to the airport; common practice).
+WAKE_BEFORE_DEPARTURE_H = 2.0
+
+
+@dataclass(frozen=True)
+class Flight:
+    """One flight, instants in UTC."""
+
+    origin: Place
+    destination: Place
+    depart: datetime
+    arrive: datetime
+
+    def __post_init__(self):
+        if self.arrive <= self.depart:
+            raise InputError(f"arrival ({self.arrive.isoformat()}) is not after departure "
+                             f"({self.depart.isoformat()})", field="flights.arrive")
+        if hours_between(self.depart, self.arrive) > 40:
+            raise InputError("a single flight longer than 40 h; split it into legs", field="flights.arrive")
+
+
+@dataclass(frozen=True)
+class Busy:
+    """Hours the traveller cannot control light (meetings, events), UTC."""
+
+    start: datetime
+    end: datetime
+    label: str = "busy"
+
+
+@dataclass(frozen=True)
+class Trip:
+    """A trip to plan.
+
+    Attributes
+    ----------
+    name : str
+    home : Place
+    flights : tuple of Flight
+    preparation_days : int
+        Days before the first departure the traveller will prepare.
+    max_shift_h_per_day : float
+        Largest move of sleep per preparation day [h].
+    end : datetime
+        End of the planned period (UTC).
+    light : LightOptions
+    busy : tuple of Busy
+    """
+
+    name: str
+    home: Place
+    flights: tuple[Flight, ...]
+    preparation_days: int
+    max_shift_h_per_day: float
+    end: datetime
+    light: LightOptions = field(default_factory=LightOptions)
+    busy: tuple[Busy, ...] = ()
+
+    @cached_property
+    def start(self) -> datetime:
+        first = self.flights[0].depart
+        return self.home.midnight_of(first) - timedelta(days=self.preparation_days)
+
+    @property
+    def destination(self) -> Place:
+        return self.flights[0].destination
+
+    @property
+    def arrival(self) -> datetime:
+        return self.flights[0].arrive
+
+
+@dataclass(frozen=True)
+class TripDay:
+    """One day of the trip in the local time of where the traveller is.
+
+    ``place`` is where the day starts, ``end_place`` where it ends (they differ on travel days).
+    """
+
+    index: int
+    kind: Literal["preparation", "travel", "stay"]
+    place: Place
+    end_place: Place
+    start: datetime
+    end: datetime
+
+    @property
+    def local_date(self) -> date:
+        return self.start.astimezone(self.place.zone).date()
+
+    @property
+    def evening_date(self) -> date:
+        """The local date, at ``end_place``, of the evening that closes this day."""
+        return (self.end - timedelta(minutes=1)).astimezone(self.end_place.zone).date()
+
+
+def trip_days(trip: Trip) -> list[TripDay]:
+    """The trip cut into days (see the module docstring)."""
+    return list(_trip_days(trip))
+
+
+@lru_cache(maxsize=64)
+def _trip_days(trip: Trip) -> tuple[TripDay, ...]:
+    days: list[TripDay] = []
+    cursor = trip.start
+    place = trip.home
+    pending = sorted(trip.flights, key=lambda f: f.depart)
+    while cursor < trip.end - timedelta(minutes=1):
+        nxt = place.midnight_after(cursor)
+        start_place = place
+        kind = "preparation" if cursor < trip.flights[0].depart else "stay"
+        while pending and pending[0].depart < nxt:
+            flight = pending.pop(0)
+            place = flight.destination
+            nxt = place.midnight_after(flight.arrive)
+            kind = "travel"
+        days.append(TripDay(len(days), kind, start_place, place, cursor, min(nxt, trip.end)))
+        cursor = nxt
+    return tuple(days)
+
+
+def where_at(trip: Trip, moment: datetime) -> Place | None:
+    """The place the traveller is at ``moment``; None while flying."""
+    place = trip.home
+    for flight in trip.flights:
+        if moment < flight.depart:
+            return place
+        if moment < flight.arrive:
+            return None
+        place = flight.destination
+    return place
+
+
+@dataclass(frozen=True)
+class Plan:
+    """Sleep episodes and light windows of a whole trip (UTC)."""
+
+    sleep: tuple[tuple[datetime, datetime], ...]
+    bright: tuple[Window, ...] = ()
+    avoid: tuple[Window, ...] = ()
+
+    @property
+    def box_minutes(self) -> float:
+        return sum(w.minutes for w in self.bright if w.source == "light box")
+
+
+def night_of(place: Place, evening: date) -> tuple[datetime, datetime]:
+    """The sleep at ``place`` that begins on the evening of ``evening`` (bedtimes before noon fall on the next date)."""
+    bed_date = evening if place.bed_h >= 12.0 else evening + timedelta(days=1)
+    bed = place.at(bed_date, place.bed_h)
+    return bed, bed + timedelta(hours=(place.wake_h - place.bed_h) % HOURS_PER_DAY)
+
+
+def habitual_sleep(trip: Trip, shifts_h: Sequence[float] = ()) -> list[tuple[datetime, datetime]]:
+    return list(_habitual_sleep(trip, tuple(float(x) for x in shifts_h)))
+
+
+@lru_cache(maxsize=4096)
+def _habitual_sleep(trip: Trip, shifts_h: tuple[float, ...]) -> tuple[tuple[datetime, datetime], ...]:
+    """Sleep episodes of the trip: home habits (the night closing preparation day k moved by
+    ``shifts_h[k]`` [h], negative = earlier), then each place's wanted sleep from the first
+    night after arrival.  No sleep overlaps a flight, and the traveller is up
+    ``WAKE_BEFORE_DEPARTURE_H`` before each departure.
+    """
+    days = trip_days(trip)
+    episodes = [night_of(trip.home, days[0].local_date - timedelta(days=1))]
+    for day in days:
+        bed, wake = night_of(day.end_place, day.evening_date)
+        if day.kind == "preparation" and day.index < len(shifts_h):
+            move = timedelta(hours=float(shifts_h[day.index]))
+            bed, wake = bed + move, wake + move
+        episodes.append((bed, wake))
+    return tuple(_fit_sleep_to_travel(trip, episodes))
+
+
+def _fit_sleep_to_travel(trip: Trip, episodes):
+    fitted = []
+    for bed, wake in episodes:
+        for flight in trip.flights:
+            latest_wake = flight.depart - timedelta(hours=WAKE_BEFORE_DEPARTURE_H)
+            if bed < flight.depart and wake > latest_wake:
+                wake = min(wake, latest_wake)
+            if bed < flight.arrive and wake > flight.depart:
+                bed = max(bed, flight.arrive)
+        if wake - bed >= timedelta(hours=1) and bed < trip.end and wake > trip.start:
+            fitted.append((max(bed, trip.start), min(wake, trip.end)))
+    return fitted
+
+
+def daylight_within(trip: Trip, place: Place, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
+    """Parts of [start, end] with the sun up at ``place``."""
+    spans = []
+    for a, b in sun_up(place, trip.start - timedelta(days=1), trip.end + timedelta(days=1)):
+        lo, hi = max(a, start), min(b, end)
+        if hi > lo:
+            spans.append((lo, hi))
+    return spans
+
+
+@lru_cache(maxsize=64)
+def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
+    """Ordinary outdoor light of a day without a plan: an hour around local noon while the sun is up."""
+    layers = []
+    for day in trip_days(trip):
+        place = day.end_place
+        local_noon = place.at(day.evening_date, 12.0)
+        a = local_noon - timedelta(hours=BASELINE_OUTDOOR_H / 2)
+        b = local_noon + timedelta(hours=BASELINE_OUTDOOR_H / 2)
+        for start, end in daylight_within(trip, place, a, b):
+            if where_at(trip, start) == place and where_at(trip, end) == place:
+                layers.append(ambient(start, end, trip.light.daylight_lux, "daylight"))
+    return tuple(layers)
+
+
+def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
+    """The light at the eye for a plan (layer order in the module docstring)."""
+    layers: list[LightLayer] = list(baseline_daylight(trip))
+    for window in plan.bright:
+        if window.source == "light box":
+            layers.append(light_box(window.start, window.end, window.lux))
+        else:
+            layers.append(ambient(window.start, window.end, window.lux, window.source))
+    for flight in trip.flights:
+        layers.append(ambient(flight.depart, flight.arrive, trip.light.cabin_lux, "cabin"))
+    for window in plan.avoid:
+        layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
+    layers.extend(sleep(a, b) for a, b in plan.sleep)
+    return LightSchedule.from_layers(trip.start, trip.end, trip.light.indoor_lux, layers)
+
+
+@dataclass(frozen=True)
+class Targets:
+    """Entrained phases the traveller starts from and aims for."""
+
+    initial_state: np.ndarray
+    home_cbtmin_h: float        # local clock at home [h]
+    destination_cbtmin_h: float  # local clock at the destination [h]
+
+
+def targets(trip: Trip, model: ModelSpec) -> Targets:
+    """Entrain at home (start state) and at the destination (target phase)."""
+    home = entrain(model, place_pattern(trip.home, trip.light), utc_offset_h=trip.home.utc_offset_h(trip.start))
+    if not home.success:
+        raise ComputationError(f"cannot entrain the traveller at home: {home.message}")
+    away = entrain(model, place_pattern(trip.destination, trip.light))
+    if not away.success:
+        raise ComputationError(f"cannot entrain to the destination's day: {away.message}")
+    return Targets(home.state, float(home.cbtmin_clock_h[0]), float(away.cbtmin_clock_h[0]))

@@ -1,0 +1,752 @@
+"""Planning a trip: evaluate plans in batches, search light windows, compare strategies.
+
+Search
+------
+1. *Greedy, receding horizon*: day by day from the simulated state, every
+   candidate for that day (bright-light window placed on the advancing or
+   delaying side of the predicted CBTmin, light-avoidance window on the other
+   side, and on preparation days a sleep shift) is simulated together with a
+   one-day look-ahead, and the candidate leaving the least shift still to do
+   (plus a small burden penalty) is kept.
+2. *Global refinement*: :func:`scipy.optimize.differential_evolution` with
+   ``vectorized=True`` over every day's window offsets and lengths, seeded with
+   the greedy plan, scoring whole-trip simulations in one batch per generation.
+   The greedy plan is kept if refinement finds nothing better.
+
+Both strategies — **advance** and **delay** — are planned; the one with fewer
+days to re-entrain is recommended (ties: less light-box time), unless it passes
+near low amplitude while the other is nearly as fast.
+
+Phase-response rules used to place windows: light before CBTmin delays, after
+CBTmin advances (Khalsa et al. 2003, J Physiol 549:945); sustained light beats
+short pulses and large shifts pass near low amplitude (Dean, Forger & Klerman
+2009, PLoS Comput Biol 5:e1000418; Serkh & Forger 2014, PLoS Comput Biol
+10:e1003523).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from datetime import datetime, timedelta
+from typing import Callable, Literal, Sequence
+
+import numpy as np
+from scipy.optimize import differential_evolution
+
+from planner.engine.integrate import SEARCH_STEP_MINUTES, simulate
+from planner.engine.markers import (
+    HOURS_PER_DAY,
+    cbtmin_times,
+    phase_difference,
+    reentrainment,
+)
+from planner.engine.parameters import ModelSpec
+from planner.errors import ComputationError
+from planner.intervals import free_segments
+from planner.trips.model import (
+    WAKE_BEFORE_DEPARTURE_H,
+    Plan,
+    Targets,
+    Trip,
+    TripDay,
+    daylight_within,
+    habitual_sleep,
+    night_of,
+    plan_schedule,
+    targets,
+    trip_days,
+    where_at,
+)
+from planner.world.light import Window, hours_between
+from planner.world.places import Place
+
+Strategy = Literal["advance", "delay"]
+#: What a plan aims at: the clock of each day's place on the route, or home time throughout.
+Aim = Literal["route", "home"]
+
+#: Tolerance for "re-entrained": CBTmin within 1 h of the target (the issue's definition; common practice).
+REENTRAINMENT_TOLERANCE_H = 1.0
+#: Burden penalty per minute of light box and per hour of sleep displacement, in days of
+#: re-entrainment: small so it only breaks near-ties (a design choice of this planner).
+BOX_MINUTE_PENALTY_DAYS = 0.002
+SLEEP_SHIFT_PENALTY_DAYS = 0.02
+#: Amplitude below this fraction of the entrained amplitude counts as "near low amplitude",
+#: where the response to light is unpredictable (a design threshold of this planner).
+LOW_AMPLITUDE_FRACTION = 0.5
+#: Bright-light windows are placed on this lattice [h] so that batches share light edges.
+WINDOW_LATTICE_H = 0.25
+#: Search ranges of the windows relative to the predicted CBTmin [h]: the advancing side
+#: runs over the hours after CBTmin and the delaying side over the hours before it, where a
+#: type 1 PRC has its advance and delay regions (Khalsa et al. 2003, J Physiol 549:945).
+RESPONSE_SIDE_H = 8.0
+#: Shortest prescribed window [min]: shorter ones are dropped (a practicality limit of this planner).
+MIN_WINDOW_MINUTES = 10.0
+#: Longest prescribed light-avoidance window [h] (a practicality limit of this planner).
+MAX_AVOIDANCE_H = 4.0
+#: A trip back home whose time at the destination is at most this many full days is planned
+#: on home time as well: re-entraining there and back again costs more days than the stay
+#: (common practice for short trips, no single source; the threshold is this planner's choice).
+SHORT_STAY_DAYS = 3
+#: Staying on home time succeeds while CBTmin keeps within this of its home phase [h]
+#: (the re-entrainment tolerance, read the other way round).
+HOME_TIME_TOLERANCE_H = REENTRAINMENT_TOLERANCE_H
+#: Hours after take-off and around landing without sleep when sleeping on a flight [h]
+#: (boarding, meals, landing; a planner's default, common practice).
+IN_FLIGHT_SETTLE_H = 1.0
+#: A day's windows stay within this distance of its anchor (predicted CBTmin), so that the
+#: windows of consecutive days (anchors about 24 h apart) cannot claim the same hours.
+ANCHOR_REACH = timedelta(hours=HOURS_PER_DAY / 2)
+
+
+@dataclass(frozen=True)
+class DayOutcome:
+    """One day of a simulated plan."""
+
+    day: TripDay
+    target_place: Place
+    cbtmin: datetime | None
+    error_h: float           # CBTmin − target in (−12, 12] [h]; NaN without a CBTmin
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """A simulated plan: daily CBTmin, re-entrainment and burden."""
+
+    plan: Plan
+    days: list[DayOutcome]
+    reentrainment_days: int | None   # days after the arrival day; None if not within the trip
+    net_shift_h: float               # net movement of the clock over the trip, + later / − earlier [h]
+    direction: Literal["advance", "delay", "none"]
+    min_amplitude_ratio: float
+    score: float
+    aim: Aim = "route"
+    #: Largest |CBTmin − target| from the arrival day until the return flight (or the end) [h].
+    max_away_error_h: float = math.nan
+
+    @property
+    def near_low_amplitude(self) -> bool:
+        return self.min_amplitude_ratio < LOW_AMPLITUDE_FRACTION
+
+    @property
+    def box_minutes(self) -> float:
+        return self.plan.box_minutes
+
+
+def target_place(trip: Trip, day: TripDay) -> Place:
+    """Where the day's phase should aim: the current place on stay days, else the next destination."""
+    if day.kind == "stay":
+        return day.end_place
+    for flight in sorted(trip.flights, key=lambda f: f.depart):
+        if flight.depart >= day.start:
+            return flight.destination
+    return day.end_place
+
+
+@dataclass
+class Evaluator:
+    """Simulates batches of plans for one trip and model."""
+
+    trip: Trip
+    model: ModelSpec
+    targets_: Targets = field(init=False)
+    days: list[TripDay] = field(init=False)
+    target_clock: dict[str, float] = field(init=False)
+    simulated: int = 0
+    #: Step used while searching [min]; None = the model file's validated step.
+    search_step_minutes: float | None = None
+    #: State at ``trip.start``, shape (3,) (e.g. from a measured DLMO or a light log,
+    #: :mod:`planner.trips.evidence`); None = entrained to the habitual home day.
+    initial_state: np.ndarray | None = None
+
+    def __post_init__(self):
+        self.targets_ = targets(self.trip, self.model)
+        self.days = trip_days(self.trip)
+        from planner.engine.entrainment import entrain, place_pattern
+        self.target_clock = {}
+        places = [self.trip.home] + [target_place(self.trip, d) for d in self.days]
+        for place in {id(p): p for p in places}.values():
+            steady = entrain(self.model, place_pattern(place, self.trip.light))
+            if not steady.success:
+                raise ComputationError(f"cannot entrain to the day at {place.name}: {steady.message}")
+            self.target_clock[place.name] = float(steady.cbtmin_clock_h[0])
+        self.reference_amplitude = float(self.model.family.amplitude(self.targets_.initial_state[:2])[0])
+        self.start_cbtmin_h = self.targets_.home_cbtmin_h
+        if self.initial_state is None:
+            self.initial_state = self.targets_.initial_state
+        else:
+            self.start_cbtmin_h = self._first_home_cbtmin(np.asarray(self.initial_state, dtype=float).reshape(3))
+        self.initial_state = np.asarray(self.initial_state, dtype=float).reshape(3)
+
+    def _first_home_cbtmin(self, state: np.ndarray) -> float:
+        """CBTmin [h of the home clock] of a traveller starting from ``state`` who keeps the habitual
+        home day for the first day and a half (the phase the evidence gives)."""
+        from planner.engine.entrainment import place_pattern
+        end = self.trip.start + timedelta(hours=36)
+        day = place_pattern(self.trip.home, self.trip.light).schedule(self.trip.start.astimezone(self.trip.home.zone), 2)
+        result = simulate(self.model, day, state, start=self.trip.start, end=end)
+        markers = cbtmin_times(result)[0] if result.success else np.zeros(0)
+        if markers.size == 0:
+            return self.targets_.home_cbtmin_h
+        local = (self.trip.start + timedelta(hours=float(markers[0]))).astimezone(self.trip.home.zone)
+        return local.hour + local.minute / 60 + local.second / 3600
+
+    def arrival_index(self) -> int:
+        return next(d.index for d in self.days if d.kind == "travel")
+
+    def return_index(self) -> int:
+        """Index of the day the first flight back home departs; the number of days if none does."""
+        for flight in sorted(self.trip.flights, key=lambda f: f.depart):
+            if flight.destination == self.trip.home:
+                return next((d.index for d in self.days if d.start <= flight.depart < d.end), len(self.days))
+        return len(self.days)
+
+    def days_away(self) -> int:
+        """Full days between the arrival day and the day of the return flight (or the trip's end)."""
+        return max(0, self.return_index() - self.arrival_index() - 1)
+
+    def evaluate(self, plans: Sequence[Plan], aim: Aim = "route", *, final: bool = False) -> list[Outcome]:
+        """Simulate plans in one batch: at the search step, or with ``final`` at the model's own step."""
+        schedules = [plan_schedule(self.trip, plan) for plan in plans]
+        step = None if final else self.search_step_minutes
+        result = simulate(self.model, schedules, self.initial_state, start=self.trip.start, end=self.trip.end,
+                          step_minutes=step)
+        if not result.success:
+            raise ComputationError(result.message)
+        self.simulated += len(plans)
+        markers = cbtmin_times(result)
+        amplitude = self.model.family.amplitude(np.moveaxis(result.states[:, :2, :], 1, 0))
+        ratio = np.nanmin(amplitude, axis=0) / self.reference_amplitude
+        return [self._outcome(plan, markers[j], float(ratio[j]), aim) for j, plan in enumerate(plans)]
+
+    def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float, aim: Aim = "route") -> Outcome:
+        epoch = self.trip.start
+        day_outcomes = []
+        for day in self.days:
+            a, b = hours_between(epoch, day.start), hours_between(epoch, day.end)
+            inside = marker_h[(marker_h >= a) & (marker_h < b)]
+            place = self.trip.home if aim == "home" else target_place(self.trip, day)
+            if inside.size:
+                moment = epoch + timedelta(hours=float(inside[-1]))
+                local = moment.astimezone(place.zone)
+                clock = local.hour + local.minute / 60 + local.second / 3600
+                error = float(phase_difference(clock, self.target_clock[place.name]))
+            else:
+                moment, error = None, math.nan
+            day_outcomes.append(DayOutcome(day, place, moment, error))
+        # Re-entrainment, net shift and direction describe the time away: from the arrival day
+        # until the day of the flight back home (the whole rest of a one-way trip).
+        arrival, back = self.arrival_index(), self.return_index()
+        stay = [o.error_h for o in day_outcomes[arrival:back]]
+        settled = reentrainment(np.asarray(stay), 0.0, REENTRAINMENT_TOLERANCE_H)
+        net = _net_shift_h([o.cbtmin for o in day_outcomes[:back]])
+        direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
+        score = person_score(settled.day, np.asarray(stay)) + plan_burden_days(self.trip, plan)
+        finite = [abs(e) for e in stay if math.isfinite(e)]
+        largest = max(finite) if finite else math.nan
+        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
+
+
+def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
+    """One person's score of a plan before its burden, in days (lower is better): the days to
+    re-entrain (the days away + 5 when never) plus a twentieth of the mean |error| while away, so
+    that among plans re-entraining on the same day the one ending closer to the target wins."""
+    days_needed = days if days is not None else len(stay_errors_h) + 5
+    residual = float(np.nanmean(np.abs(stay_errors_h))) if np.any(np.isfinite(stay_errors_h)) else 12.0
+    return days_needed + 0.05 * residual
+
+
+def plan_burden_days(trip: Trip, plan: Plan) -> float:
+    """The burden of a plan in days of re-entrainment: light-box minutes and sleep displacement."""
+    return BOX_MINUTE_PENALTY_DAYS * plan.box_minutes + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(trip, plan)
+
+
+def _net_shift_h(cbtmins: Sequence[datetime | None]) -> float:
+    """Net movement of CBTmin over the trip [h]: the sum of daily moves, each taken as the
+    shortest way round the clock (a body clock moves well under 12 h a day); + later, − earlier."""
+    known = [c for c in cbtmins if c is not None]
+    total = 0.0
+    for a, b in zip(known[:-1], known[1:]):
+        total += float(phase_difference(hours_between(a, b) % HOURS_PER_DAY, 0.0))
+    return total
+
+
+def _sleep_displacement_h(trip: Trip, plan: Plan) -> float:
+    habitual = habitual_sleep(trip)
+    total = 0.0
+    for (a, _), (b, _) in zip(habitual, plan.sleep):
+        total += abs(hours_between(a, b))
+    return total
+
+
+def required_shift_h(trip: Trip, evaluator: Evaluator, strategy: Strategy) -> float:
+    """How far the clock must move in the strategy's direction [h, positive]."""
+    home_clock = evaluator.start_cbtmin_h   # the traveller's own phase when evidence gives one
+    dest = trip.destination
+    dest_clock = evaluator.target_clock[dest.name]
+    # Home CBTmin expressed on the destination clock at arrival, vs the destination target.
+    offset = dest.utc_offset_h(trip.arrival) - trip.home.utc_offset_h(trip.flights[0].depart)
+    behind = float(phase_difference(home_clock + offset, dest_clock))   # + = body later than target
+    if strategy == "advance":
+        return behind % HOURS_PER_DAY
+    return (-behind) % HOURS_PER_DAY
+
+
+# --- windows -------------------------------------------------------------------------------------
+
+def _forbidden(trip: Trip, plan_sleep) -> list[tuple[datetime, datetime]]:
+    spans = list(plan_sleep)
+    spans += [(f.depart, f.arrive) for f in trip.flights]
+    spans += [(b.start, b.end) for b in trip.busy]
+    return sorted(spans)
+
+
+def _longest(segments):
+    return max(segments, key=lambda se: se[1] - se[0]) if segments else None
+
+
+def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidden) -> Window | None:
+    """The longest part of [start, end] the traveller can use for ``source``; None if none.
+
+    Light boxes and dark glasses avoid sleep, flights and busy hours; daylight also needs the
+    sun up at the place the traveller is.
+    """
+    light = trip.light
+    segments = free_segments(start, end, forbidden)
+    if source == "daylight":
+        if not light.daylight:
+            return None
+        place = where_at(trip, start)
+        if place is None:
+            return None
+        sunny = []
+        for s, e in segments:
+            if where_at(trip, e) != place:
+                continue
+            sunny += daylight_within(trip, place, s, e)
+        segments = sunny
+        cap, lux = light.daylight_max_minutes, light.daylight_lux
+    elif source == "light box":
+        cap, lux = light.box_max_minutes, light.box_lux
+    else:
+        cap, lux = MAX_AVOIDANCE_H * 60.0, light.glasses_transmission
+    best = _longest(segments)
+    if best is None:
+        return None
+    s, e = best
+    e = min(e, s + timedelta(minutes=cap))
+    if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
+        return None
+    return Window(s, e, lux, source)
+
+
+@dataclass(frozen=True)
+class DayChoice:
+    """Decision variables of one day, relative to that day's anchor (predicted CBTmin)."""
+
+    bright_offset_h: float = 0.0
+    bright_hours: float = 0.0
+    bright_source: str = "light box"
+    avoid_offset_h: float = 0.0
+    avoid_hours: float = 0.0
+    sleep_shift_h: float = 0.0
+
+
+def _lattice(moment: datetime) -> datetime:
+    step = WINDOW_LATTICE_H * 3600.0
+    seconds = round(moment.timestamp() / step) * step
+    return datetime.fromtimestamp(seconds, tz=moment.tzinfo)
+
+
+class TripPlanner:
+    """Plans one trip under one model (see the module docstring)."""
+
+    def __init__(self, trip: Trip, model: ModelSpec, initial_state: np.ndarray | None = None):
+        self.trip = trip
+        self.model = model
+        self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
+                                   initial_state=initial_state)
+        self.days = self.evaluator.days
+
+    # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
+    def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
+        shifts = []
+        cumulative = 0.0
+        for day, choice in zip(self.days, choices):
+            if day.kind == "preparation":
+                cumulative = choice.sleep_shift_h
+                shifts.append(cumulative)
+        sleep = habitual_sleep(self.trip, shifts)
+        forbidden = _forbidden(self.trip, sleep)
+        bright, avoid = [], []
+        used: dict[tuple[int, str], float] = {}   # prescribed minutes per (trip day, source)
+        caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
+        for day, choice, anchor in zip(self.days, choices, anchors):
+            if anchor is None:
+                continue
+            # A day's windows sit on either side of its CBTmin, so they may fall on the evening
+            # before the day (delaying light before a CBTmin just after midnight): they are
+            # bounded by the anchor's own half-day, not by the calendar day.
+            lo = max(anchor - ANCHOR_REACH, self.trip.start)
+            hi = min(anchor + ANCHOR_REACH, self.trip.end)
+            if choice.bright_hours > 0:
+                s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
+                e = s + timedelta(hours=choice.bright_hours)
+                taken = sorted(forbidden + [(w.start, w.end) for w in bright])
+                window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
+                if window is not None:
+                    key = (self._day_index(window.start), window.source)
+                    room = caps[window.source] - used.get(key, 0.0)
+                    window = window if window.minutes <= room else (
+                        Window(window.start, window.start + timedelta(minutes=room), window.lux, window.source)
+                        if room >= MIN_WINDOW_MINUTES else None)
+                if window is not None:
+                    bright.append(window)
+                    used[key] = used.get(key, 0.0) + window.minutes
+            if choice.avoid_hours > 0:
+                s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
+                e = s + timedelta(hours=choice.avoid_hours)
+                taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
+                window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", sorted(taken))
+                if window is not None:
+                    avoid.append(window)
+        return Plan(tuple(sleep), tuple(bright), tuple(avoid))
+
+    def _day_index(self, moment: datetime) -> int:
+        """Index of the trip day holding ``moment`` (the last day for the trip's end)."""
+        for day in self.days:
+            if day.start <= moment < day.end:
+                return day.index
+        return self.days[-1].index
+
+    def baseline(self) -> Outcome:
+        """No plan: home habits until departure, then the destination's sleep and ordinary light."""
+        return self.evaluator.evaluate([Plan(tuple(habitual_sleep(self.trip)))], final=True)[0]
+
+    def _anchors(self, outcome: Outcome) -> list[datetime | None]:
+        anchors = []
+        last = None
+        for o in outcome.days:
+            if o.cbtmin is not None:
+                last = o.cbtmin
+                anchors.append(o.cbtmin)
+            else:
+                anchors.append(last + timedelta(hours=HOURS_PER_DAY) if last is not None else None)
+        return anchors
+
+    def _candidates(self, day: TripDay, strategy: Strategy, previous_shift: float) -> list[DayChoice]:
+        sign = 1.0 if strategy == "advance" else -1.0
+        offsets = np.arange(0.0, RESPONSE_SIDE_H + 1e-9, 1.0)
+        bright_opts = [(0.0, 0.0, "light box")]
+        for o in offsets:
+            # Advance: light after CBTmin; delay: light ending at or before CBTmin.
+            for hours, source in ((0.5, "light box"), (1.0, "light box"), (1.0, "daylight"), (2.0, "daylight")):
+                if source == "daylight" and not self.trip.light.daylight:
+                    continue
+                start = o if sign > 0 else -o - hours
+                bright_opts.append((start, hours, source))
+        avoid_opts = [(0.0, 0.0)]
+        for hours in (2.0, 4.0):
+            avoid_opts.append((-hours if sign > 0 else 0.0, hours))
+            avoid_opts.append((-hours - 2.0 if sign > 0 else 2.0, hours))
+        shifts = [previous_shift]
+        if day.kind == "preparation":
+            step = self.trip.max_shift_h_per_day
+            shifts = sorted({previous_shift - sign * step, previous_shift - sign * step / 2, previous_shift})
+        return [DayChoice(b[0], b[1], b[2], a[0], a[1], s) for b in bright_opts for a in avoid_opts for s in shifts]
+
+    def greedy(self, strategy: Strategy) -> tuple[list[DayChoice], list[datetime | None], Outcome]:
+        """Day-by-day search with a one-day look-ahead (receding horizon)."""
+        base = self.baseline()
+        anchors = self._anchors(base)
+        choices = [DayChoice() for _ in self.days]
+        required = required_shift_h(self.trip, self.evaluator, strategy)
+        arrival = self.evaluator.arrival_index()
+        best_outcome = base
+        for day in self.days:
+            if anchors[day.index] is None:
+                continue
+            settled = best_outcome.reentrainment_days
+            if settled is not None and day.index > arrival + settled:
+                break  # every later day already holds the target: no more light is prescribed
+            previous_shift = choices[day.index - 1].sleep_shift_h if day.index else 0.0
+            options = self._candidates(day, strategy, previous_shift)
+            plans = []
+            for option in options:
+                trial = list(choices)
+                trial[day.index] = option
+                for later in range(day.index + 1, len(trial)):
+                    if self.days[later].kind == "preparation":
+                        trial[later] = DayChoice(sleep_shift_h=option.sleep_shift_h)
+                plans.append((trial, self.build(trial, anchors, strategy)))
+            outcomes = self.evaluator.evaluate([p for _, p in plans])
+            horizon = min(day.index + 1, len(self.days) - 1)
+            scores = [self._remaining(o, horizon, strategy, required, arrival) + self._burden(o) for o in outcomes]
+            pick = int(np.argmin(scores))
+            choices = plans[pick][0]
+            best_outcome = outcomes[pick]
+            anchors = self._merge_anchors(anchors, self._anchors(best_outcome), day.index + 1)
+        return choices, anchors, best_outcome
+
+    @staticmethod
+    def _merge_anchors(old, new, from_index):
+        return list(old[:from_index]) + list(new[from_index:])
+
+    def _remaining(self, outcome: Outcome, index: int, strategy: Strategy, required: float, arrival: int) -> float:
+        """Shift still to do after day ``index`` in the strategy's direction [h], plus final errors."""
+        error = outcome.days[index].error_h
+        if not math.isfinite(error):
+            return 24.0
+        todo = (error if strategy == "advance" else -error) % HOURS_PER_DAY
+        if todo > HOURS_PER_DAY - 3.0:
+            todo = HOURS_PER_DAY - todo   # overshoot by a little counts as error, not as a whole turn
+        return todo + 0.1 * outcome.score
+
+    @staticmethod
+    def _burden(outcome: Outcome) -> float:
+        return BOX_MINUTE_PENALTY_DAYS * outcome.box_minutes
+
+    def refine(self, strategy: Strategy, choices: list[DayChoice], anchors, seed: int = 0,
+               maxiter: int = 12, popsize: int = 6,
+               score_plans: Callable[[list[Plan]], np.ndarray] | None = None,
+               init_spread: float = 0.15,
+               extra_seeds: Sequence[Sequence[DayChoice]] = ()) -> tuple[list[DayChoice], Outcome]:
+        """Differential evolution over every day's windows, seeded with ``choices``.
+
+        ``score_plans`` scores a batch of plans (lower is better); default: the average
+        person's :attr:`Outcome.score` (a population's robust score in :mod:`planner.trips.robust`).
+        """
+        sign = 1.0 if strategy == "advance" else -1.0
+        active = [i for i, a in enumerate(anchors) if a is not None]
+        bounds = []
+        for _ in active:
+            bounds += [(-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, 2.0), (-RESPONSE_SIDE_H, RESPONSE_SIDE_H), (0.0, MAX_AVOIDANCE_H)]
+        def encode(days):
+            vector = []
+            for i in active:
+                c = days[i]
+                vector += [c.bright_offset_h, c.bright_hours, c.avoid_offset_h, c.avoid_hours]
+            return np.clip(np.asarray(vector, dtype=float), [b[0] for b in bounds], [b[1] for b in bounds])
+
+        base_vector = encode(choices)
+
+        def decode(vector):
+            new = list(choices)
+            for k, i in enumerate(active):
+                bo, bh, ao, ah = vector[4 * k:4 * k + 4]
+                source = choices[i].bright_source
+                new[i] = DayChoice(float(bo), float(round(bh * 4) / 4), source, float(ao), float(round(ah * 4) / 4),
+                                   choices[i].sleep_shift_h)
+            return new
+
+        def objective(population):
+            members = population.T
+            plans = [self.build(decode(v), anchors, strategy) for v in members]
+            if score_plans is not None:
+                return np.asarray(score_plans(plans), dtype=float)
+            return np.array([o.score for o in self.evaluator.evaluate(plans)])
+
+        rng = np.random.default_rng(seed)
+        count = max(5, popsize * len(bounds))
+        count = min(count, 60)
+        spread = np.array([b[1] - b[0] for b in bounds]) * init_spread   # of each range, around the seed
+        init = np.clip(base_vector + rng.normal(size=(count, len(bounds))) * spread,
+                       [b[0] for b in bounds], [b[1] for b in bounds])
+        init[0] = base_vector
+        for row, extra in enumerate(extra_seeds[:count - 1], start=1):   # other starting plans, e.g. variants
+            init[row] = encode(extra)
+        result = differential_evolution(objective, bounds, init=init, maxiter=maxiter, vectorized=True,
+                                        updating="deferred", polish=False, seed=seed, tol=1e-6)
+        refined = decode(result.x)
+        outcome = self.evaluator.evaluate([self.build(refined, anchors, strategy)])[0]
+        del sign
+        return refined, outcome
+
+
+def home_time_sleep(trip: Trip) -> list[tuple[datetime, datetime]]:
+    """Sleep kept at home clock hours all trip long, around flights and busy hours.
+
+    Each night is the home habit on the home clock.  Staying on home time means sleeping
+    on a flight that falls in the home night, so a flight only takes out the hours of
+    getting to the airport and taking off (``WAKE_BEFORE_DEPARTURE_H`` before to
+    ``IN_FLIGHT_SETTLE_H`` after departure) and of landing (``IN_FLIGHT_SETTLE_H``
+    around arrival); busy hours are cut out as well, and pieces shorter than an hour dropped.
+    """
+    first = trip.start.astimezone(trip.home.zone).date() - timedelta(days=1)
+    last = trip.end.astimezone(trip.home.zone).date()
+    nights = [night_of(trip.home, first + timedelta(days=k)) for k in range((last - first).days + 1)]
+    settle = timedelta(hours=IN_FLIGHT_SETTLE_H)
+    taken = [(b.start, b.end) for b in trip.busy]
+    for flight in trip.flights:
+        taken.append((flight.depart - timedelta(hours=WAKE_BEFORE_DEPARTURE_H), flight.depart + settle))
+        taken.append((flight.arrive - settle, flight.arrive + settle))
+    kept = []
+    for bed, wake in nights:
+        bed, wake = max(bed, trip.start), min(wake, trip.end)
+        for a, b in free_segments(bed, wake, sorted(taken)):
+            if b - a >= timedelta(hours=1):
+                kept.append((a, b))
+    return kept
+
+
+@dataclass(frozen=True)
+class StrategyResult:
+    """The best plan found for one strategy ("home": staying on home time)."""
+
+    strategy: Strategy | Literal["home"]
+    outcome: Outcome
+    greedy_score: float
+    refined: bool
+    required_shift_h: float
+    #: The day choices and anchors the plan was built from (a start for further searches).
+    choices: tuple = ()
+    anchors: tuple = ()
+
+
+@dataclass(frozen=True)
+class TripPlanResult:
+    """Outcome of :func:`plan_trip`.
+
+    Attributes
+    ----------
+    success : bool
+        True when the recommended plan re-entrains within the trip.
+    message : str
+        Plain statement of the result, including a shortfall when the target is not reached.
+    strategy : str
+        The recommended strategy: "advance", "delay", or "home" (stay on home time; short trips
+        back home with ``strategy="auto"``, see :func:`plan_trip`).
+    recommended : StrategyResult
+    alternatives : dict of StrategyResult
+        Every strategy evaluated, by name (the recommended one among them).
+    baseline : Outcome
+    reason : str
+        Why the recommended strategy was chosen.
+    simulated : int
+        Schedules simulated in the search.
+    citations : list of str
+    """
+
+    success: bool
+    message: str
+    strategy: Strategy | Literal["home"]
+    recommended: StrategyResult
+    alternatives: dict
+    baseline: Outcome
+    reason: str
+    simulated: int
+    citations: list
+
+
+def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) -> StrategyResult:
+    """Greedy plan for one strategy, then global refinement; the better of the two."""
+    choices, anchors, greedy_outcome = planner.greedy(strategy)
+    refined_choices, refined_outcome = planner.refine(strategy, choices, anchors, seed=seed)
+    better = refined_outcome.score < greedy_outcome.score - 1e-9
+    outcome = refined_outcome if better else greedy_outcome
+    outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
+    return StrategyResult(strategy, outcome, greedy_outcome.score, better,
+                          required_shift_h(planner.trip, planner.evaluator, strategy),
+                          tuple(refined_choices if better else choices), tuple(anchors))
+
+
+def _days_or_inf(outcome: Outcome) -> float:
+    return math.inf if outcome.reentrainment_days is None else float(outcome.reentrainment_days)
+
+
+def recommend(results: dict) -> tuple[Strategy, str]:
+    """Choose between strategies: fewer days to re-entrain, then less light-box time; avoid
+    a plan passing near low amplitude when the other is at most a day slower."""
+    adv, dly = results.get("advance"), results.get("delay")
+    if adv is None or dly is None:
+        only = adv or dly
+        return only.strategy, f"only the {only.strategy} strategy was requested"
+    a_days, d_days = _days_or_inf(adv.outcome), _days_or_inf(dly.outcome)
+    fast, slow = (adv, dly) if (a_days, adv.outcome.box_minutes) <= (d_days, dly.outcome.box_minutes) else (dly, adv)
+    f_days, s_days = _days_or_inf(fast.outcome), _days_or_inf(slow.outcome)
+    if fast.outcome.near_low_amplitude and not slow.outcome.near_low_amplitude and s_days - f_days <= 1:
+        return slow.strategy, (f"{slow.strategy} is at most a day slower and, unlike {fast.strategy}, does not pass "
+                               "near low circadian amplitude, where the response to light is unpredictable")
+    if math.isinf(f_days):
+        return fast.strategy, (f"neither strategy re-entrains within the trip; {fast.strategy} ends closest "
+                               "to the target")
+    if f_days == s_days:
+        return fast.strategy, f"both re-entrain in {int(f_days)} days; {fast.strategy} needs less light-box time"
+    slower = "does not re-entrain within the trip" if math.isinf(s_days) else f"needs {int(s_days)}"
+    return fast.strategy, (f"{fast.strategy} re-entrains in {int(f_days)} days after arrival; "
+                           f"{slow.strategy} {slower}")
+
+
+def plan_home_time(planner: TripPlanner) -> StrategyResult:
+    """Stay on home time: home sleep hours kept all trip long (:func:`home_time_sleep`), no
+    prescribed light; scored against the home clock."""
+    outcome = planner.evaluator.evaluate([Plan(tuple(home_time_sleep(planner.trip)))], aim="home", final=True)[0]
+    return StrategyResult("home", outcome, outcome.score, False, 0.0)
+
+
+def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str | None:
+    """Why staying on home time should be offered for this trip; None when it should not.
+
+    Only for a trip back home, and only when the time away is short (at most
+    ``SHORT_STAY_DAYS`` full days) or shorter than re-entrainment would take.
+    """
+    if planner.evaluator.return_index() >= len(planner.days):
+        return None
+    away = planner.evaluator.days_away()
+    days = results[chosen].outcome.reentrainment_days
+    stay = f"{away} full day{'s' if away != 1 else ''} away"
+    if days is None:
+        return f"{stay}, and no plan re-entrains to the destination before the flight home"
+    if away <= SHORT_STAY_DAYS:
+        return f"only {stay} (re-entraining there takes {days} day(s), and then the clock has to come back)"
+    if days > away:
+        return f"{stay}, fewer than the {days} days re-entraining would take"
+    return None
+
+
+def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance", "delay"] = "auto",
+              *, seed: int = 0, initial_state: np.ndarray | None = None) -> TripPlanResult:
+    """Plan a trip: baseline, the requested strategies, and a recommendation.
+
+    With ``strategy="auto"`` on a short trip back home (see :func:`_home_time_wanted`),
+    staying on home time is evaluated too and recommended: the clock is held near home
+    instead of being moved there and back.
+
+    An infeasible target is not an error: the best plan found is returned with
+    ``success`` False and a message saying how far it falls short.
+
+    ``initial_state`` (shape (3,)) is the traveller's state at ``trip.start`` from evidence
+    (:func:`planner.trips.evidence.starting_phase`); default entrained to the habitual home day.
+    """
+    planner = TripPlanner(trip, model, initial_state)
+    baseline = planner.baseline()
+    wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
+    results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}
+    chosen, reason = recommend(results)
+    short = _home_time_wanted(planner, results, chosen) if strategy == "auto" else None
+    if short is not None:
+        results["home"] = plan_home_time(planner)
+        chosen, reason = "home", (f"stay on home time: {short}; keeping home sleep hours holds the body clock "
+                                  "near home time instead of moving it there and back")
+    best = results[chosen]
+    days = best.outcome.reentrainment_days
+    if chosen == "home":
+        drift = best.outcome.max_away_error_h
+        success = math.isfinite(drift) and drift <= HOME_TIME_TOLERANCE_H
+        held = f"within {drift:.1f} h" if math.isfinite(drift) else "(no CBTmin predicted)"
+        message = (f"stay on home time: with home sleep hours kept, CBTmin stays {held} of its home phase "
+                   "while away" + ("" if success else
+                                   f", more than the {HOME_TIME_TOLERANCE_H:g} h the plan aims for"))
+    elif days is None:
+        back = planner.evaluator.return_index()
+        last = [o.error_h for o in best.outcome.days[:back] if math.isfinite(o.error_h)]
+        residual = abs(last[-1]) if last else math.nan
+        when = "on the last day" if back >= len(planner.days) else "on the last day before the flight home"
+        message = (f"the target is not reached within the trip: the best plan ({chosen}) still leaves "
+                   f"CBTmin {residual:.1f} h from the destination's target {when}")
+        success = False
+    else:
+        message = f"re-entrained {days} day(s) after the arrival day with the {chosen} plan"
+        success = True
+    return TripPlanResult(success, message, chosen, best, results, baseline, reason,
+                          planner.evaluator.simulated, [model.citation])

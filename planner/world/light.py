@@ -1,0 +1,392 @@
+"""Light at the eye: piecewise-constant schedules of lux in absolute (UTC) time.
+
+A :class:`LightSchedule` is built from a background level and *layers* applied
+in order: ``set`` replaces the level (sleep = 0 lux because the eyes are shut,
+outdoor daylight), ``at_least`` raises it to a floor (a light box in front of
+the eyes), ``scale`` multiplies it (dark glasses with their transmission).
+
+For the integrator the schedules of a batch are sampled onto one time grid by
+:func:`sample_on_grid`.  Grid steps are **not** aligned to light edges: an edge
+that falls inside a step *splits that step into pieces for that schedule only*
+(:class:`GridLight` keeps the pieces), and :mod:`planner.engine.process_l` advances
+Process L exactly through every piece, so no edge is lost or moved.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import datetime, timedelta, timezone
+from typing import Literal, Sequence
+
+import numpy as np
+
+from planner.errors import ScheduleError
+
+SECONDS_PER_HOUR = 3600.0
+#: Edges closer than this to a grid point are treated as on it [h] (about 4 ms);
+#: it only absorbs float round-off of datetime arithmetic.
+EDGE_TOLERANCE_H = 1e-6
+
+
+def _require_aware(moment: datetime, what: str) -> datetime:
+    if not isinstance(moment, datetime):
+        raise ScheduleError(f"{what} must be a datetime, got {type(moment).__name__}", field=what)
+    if moment.tzinfo is None or moment.utcoffset() is None:
+        raise ScheduleError("times must carry a time zone (floating local times are ambiguous)", field=what)
+    return moment.astimezone(timezone.utc)
+
+
+def hours_between(earlier: datetime, later: datetime) -> float:
+    """Real elapsed hours from ``earlier`` to ``later`` (both aware).
+
+    Both are converted to UTC first: Python subtracts two datetimes that share a
+    tzinfo as wall-clock times, which is wrong across a clock change.
+    """
+    return (later.astimezone(timezone.utc) - earlier.astimezone(timezone.utc)).total_seconds() / SECONDS_PER_HOUR
+
+
+@dataclass(frozen=True)
+class LightLayer:
+    """One interval of a light schedule.
+
+    Parameters
+    ----------
+    start, end : datetime
+        Aware datetimes; ``end`` after ``start``.
+    kind : {"set", "at_least", "scale"}
+        How the layer changes the level beneath it.
+    value : float
+        Lux for ``set`` and ``at_least`` [lux]; transmission for ``scale`` [0..1].
+    source : str
+        What the light is (``"sleep"``, ``"daylight"``, ``"light box"``, ``"dark glasses"`` ...).
+    """
+
+    start: datetime
+    end: datetime
+    kind: Literal["set", "at_least", "scale"]
+    value: float
+    source: str = ""
+
+    def __post_init__(self):
+        start = _require_aware(self.start, "start")
+        end = _require_aware(self.end, "end")
+        if end <= start:
+            raise ScheduleError(f"{self.source or 'light'} interval ends ({end.isoformat()}) "
+                                f"at or before it starts ({start.isoformat()})", field="end")
+        if self.kind not in ("set", "at_least", "scale"):
+            raise ScheduleError(f"unknown layer kind {self.kind!r}; allowed: set, at_least, scale", field="kind")
+        if not math.isfinite(self.value) or self.value < 0:
+            raise ScheduleError(f"{self.source or 'light'} value must be a finite number >= 0, got {self.value}",
+                                field="value")
+        if self.kind == "scale" and self.value > 1:
+            raise ScheduleError(f"transmission must lie in [0, 1], got {self.value}", field="value")
+        object.__setattr__(self, "start", start)
+        object.__setattr__(self, "end", end)
+
+
+def sleep(start: datetime, end: datetime) -> LightLayer:
+    """Eyes shut: 0 lux at the retina."""
+    return LightLayer(start, end, "set", 0.0, "sleep")
+
+
+def ambient(start: datetime, end: datetime, lux: float, source: str = "indoor") -> LightLayer:
+    """Ambient light replacing the level beneath (indoor lighting, outdoor daylight) [lux]."""
+    return LightLayer(start, end, "set", lux, source)
+
+
+def light_box(start: datetime, end: datetime, lux: float) -> LightLayer:
+    """A light box: at least ``lux`` at the eye while it is in use [lux]."""
+    return LightLayer(start, end, "at_least", lux, "light box")
+
+
+def dark_glasses(start: datetime, end: datetime, transmission: float) -> LightLayer:
+    """Dark (or blue-blocking) glasses passing the fraction ``transmission`` of the light."""
+    return LightLayer(start, end, "scale", transmission, "dark glasses")
+
+
+@dataclass(frozen=True)
+class LightSchedule:
+    """Piecewise-constant illuminance at the eye.
+
+    Attributes
+    ----------
+    epoch : datetime
+        UTC instant of hour 0.
+    edges_h : ndarray, shape (M + 1,)
+        Strictly increasing interval edges [h since ``epoch``].
+    lux : ndarray, shape (M,)
+        Illuminance on each interval [lux].
+    """
+
+    epoch: datetime
+    edges_h: np.ndarray
+    lux: np.ndarray
+
+    def __post_init__(self):
+        epoch = _require_aware(self.epoch, "epoch")
+        edges = np.asarray(self.edges_h, dtype=float)
+        lux = np.asarray(self.lux, dtype=float)
+        if edges.ndim != 1 or lux.ndim != 1 or edges.size != lux.size + 1 or lux.size == 0:
+            raise ScheduleError("a schedule needs M >= 1 lux values and M + 1 edges")
+        if not np.all(np.isfinite(edges)) or np.any(np.diff(edges) <= 0):
+            raise ScheduleError("schedule edges must be finite and strictly increasing")
+        if not np.all(np.isfinite(lux)) or np.any(lux < 0):
+            bad = float(lux[~(np.isfinite(lux) & (lux >= 0))][0])
+            raise ScheduleError(f"lux must be a finite number >= 0, got {bad}", field="lux")
+        object.__setattr__(self, "epoch", epoch)
+        object.__setattr__(self, "edges_h", edges)
+        object.__setattr__(self, "lux", lux)
+
+    @property
+    def start(self) -> datetime:
+        return self.epoch + timedelta(hours=float(self.edges_h[0]))
+
+    @property
+    def end(self) -> datetime:
+        return self.epoch + timedelta(hours=float(self.edges_h[-1]))
+
+    @classmethod
+    def constant(cls, start: datetime, end: datetime, lux: float) -> "LightSchedule":
+        """One level from ``start`` to ``end`` [lux]."""
+        return cls.from_layers(start, end, lux, ())
+
+    @classmethod
+    def from_layers(cls, start: datetime, end: datetime, background_lux: float,
+                    layers: Sequence[LightLayer]) -> "LightSchedule":
+        """Build a schedule from a background level and layers applied in order.
+
+        Parts of layers outside ``[start, end]`` are ignored.  Put ``sleep``
+        layers last so that closed eyes win over any light source.
+        """
+        start = _require_aware(start, "start")
+        end = _require_aware(end, "end")
+        if end <= start:
+            raise ScheduleError("schedule ends at or before it starts", field="end")
+        if not math.isfinite(background_lux) or background_lux < 0:
+            raise ScheduleError(f"background lux must be a finite number >= 0, got {background_lux}",
+                                field="background_lux")
+        span = hours_between(start, end)
+        cuts = [0.0, span]
+        bounds = []
+        for layer in layers:
+            a = min(max(hours_between(start, layer.start), 0.0), span)
+            b = min(max(hours_between(start, layer.end), 0.0), span)
+            bounds.append((a, b))
+            cuts.extend((a, b))
+        edges = np.unique(np.asarray(cuts))
+        edges = edges[np.concatenate(([True], np.diff(edges) > EDGE_TOLERANCE_H))]
+        edges[-1] = span
+        lefts, rights = edges[:-1], edges[1:]
+        mids = 0.5 * (lefts + rights)
+        lux = np.full(mids.shape, float(background_lux))
+        for layer, (a, b) in zip(layers, bounds):
+            inside = (mids > a) & (mids < b)
+            if layer.kind == "set":
+                lux[inside] = layer.value
+            elif layer.kind == "at_least":
+                lux[inside] = np.maximum(lux[inside], layer.value)
+            else:
+                lux[inside] *= layer.value
+        keep = np.concatenate(([True], lux[1:] != lux[:-1]))
+        return cls(start, np.append(edges[:-1][keep], span), lux[keep])
+
+    def relative_to(self, epoch: datetime) -> np.ndarray:
+        """Edges [h] measured from another ``epoch``."""
+        return self.edges_h + hours_between(_require_aware(epoch, "epoch"), self.epoch)
+
+    def lux_at(self, hours: np.ndarray) -> np.ndarray:
+        """Lux in force at ``hours`` since ``epoch`` (right-continuous), shape of ``hours``."""
+        index = np.searchsorted(self.edges_h, hours, side="right") - 1
+        return self.lux[np.clip(index, 0, self.lux.size - 1)]
+
+    def intervals(self) -> list[tuple[datetime, datetime, float]]:
+        """The schedule as (start, end, lux) triples in UTC."""
+        starts = [self.epoch + timedelta(hours=float(h)) for h in self.edges_h]
+        return [(starts[i], starts[i + 1], float(self.lux[i])) for i in range(self.lux.size)]
+
+
+@dataclass(frozen=True)
+class GridLight:
+    """A batch of N schedules on one integration grid.
+
+    Attributes
+    ----------
+    epoch : datetime
+        UTC instant of hour 0.
+    times : ndarray, shape (K + 1,)
+        Grid points [h since ``epoch``].
+    lux : ndarray, shape (K, N)
+        Lux at the start of each step [lux]; the whole step unless it is split.
+    split_step, split_column : ndarray, shape (E,)
+        The (step, schedule) pairs that a light edge splits.
+    split_lengths, split_lux : ndarray, shape (E, P)
+        Their pieces, in time order [h] and [lux]; unused pieces have length 0.
+    levels : ndarray, shape (U,), optional
+        The distinct lux values of ``lux`` [lux] (a schedule batch has few).
+    level_index : ndarray of int, shape (K, N), optional
+        ``lux == levels[level_index]``; lets per-level work be done once.
+    """
+
+    epoch: datetime
+    times: np.ndarray
+    lux: np.ndarray
+    split_step: np.ndarray
+    split_column: np.ndarray
+    split_lengths: np.ndarray
+    split_lux: np.ndarray
+    levels: np.ndarray | None = None
+    level_index: np.ndarray | None = None
+
+    @property
+    def size(self) -> int:
+        return self.lux.shape[1]
+
+    def repeated(self, count: int) -> "GridLight":
+        """The batch of one schedule repeated ``count`` times (e.g. for N people)."""
+        if self.size != 1:
+            raise ScheduleError(f"only a single schedule can be repeated, not {self.size}")
+        e = self.split_step.size
+        index = None if self.level_index is None else np.repeat(self.level_index, count, axis=1)
+        return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
+                         np.tile(self.split_step, count), np.repeat(np.arange(count), e),
+                         np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)),
+                         self.levels, index)
+
+
+def step_grid(span_h: float, step_h: float) -> np.ndarray:
+    """Grid points 0, step, 2·step, ... ending exactly at ``span_h`` [h]; the last step may be shorter."""
+    count = max(1, math.ceil(span_h / step_h - 1e-9))
+    times = np.arange(count + 1, dtype=float) * step_h
+    times[-1] = span_h
+    return times
+
+
+def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: datetime,
+                   step_h: float) -> GridLight:
+    """Sample schedules onto a common step grid from ``start`` to ``end``.
+
+    All schedules are handled in one vectorised pass: their edges are laid end
+    to end on one axis, schedule j shifted by j·width, so that one
+    :func:`numpy.searchsorted` serves the whole batch.
+
+    Raises
+    ------
+    ScheduleError
+        When a schedule does not cover ``[start, end]``.
+    """
+    if not schedules:
+        raise ScheduleError("no light schedules to simulate")
+    start = _require_aware(start, "start")
+    end = _require_aware(end, "end")
+    span = hours_between(start, end)
+    if span <= 0:
+        raise ScheduleError("simulation ends at or before it starts", field="end")
+    times = step_grid(span, step_h)
+    lefts = times[:-1]
+    size = len(schedules)
+    edges = [schedule.relative_to(start) for schedule in schedules]
+    for column, (schedule, e) in enumerate(zip(schedules, edges)):
+        if e[0] > EDGE_TOLERANCE_H or e[-1] < span - EDGE_TOLERANCE_H:
+            raise ScheduleError(f"light schedule {column} covers {schedule.start.isoformat()} to "
+                                f"{schedule.end.isoformat()} but the simulation runs from "
+                                f"{start.isoformat()} to {end.isoformat()}")
+    counts = np.array([e.size for e in edges])
+    column_of_edge = np.repeat(np.arange(size), counts)
+    all_edges = np.concatenate(edges)
+    all_lux = np.concatenate([schedule.lux for schedule in schedules])
+    origin = min(float(all_edges.min()), 0.0)
+    width = max(float(all_edges.max()), span) - origin + 1.0
+    keys = all_edges - origin + column_of_edge * width
+    first_lux = np.concatenate(([0], np.cumsum(counts - 1)))
+
+    def lux_at(column: np.ndarray, hours: np.ndarray) -> np.ndarray:
+        # Edge index within the stacked axis, minus one edge per earlier schedule = lux index.
+        index = np.searchsorted(keys, hours + EDGE_TOLERANCE_H - origin + column * width, side="right") - 1
+        index = np.clip(index - column, first_lux[column], first_lux[column + 1] - 1)
+        return all_lux[index]
+
+    # Grid points per interval: the step starting at t_k takes the lux in force at t_k.
+    below = np.searchsorted(lefts + EDGE_TOLERANCE_H, all_edges, side="left")
+    last_edge = np.cumsum(counts) - 1
+    below[last_edge] = lefts.size
+    below[last_edge - counts + 1] = 0
+    points = np.delete(np.diff(below), last_edge[:-1])
+    levels, interval_level = np.unique(all_lux, return_inverse=True)
+    level_index = np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T
+    lux = levels[level_index]
+
+    interior = (all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H)
+    inner, inner_column = all_edges[interior], column_of_edge[interior]
+    position = np.clip(np.searchsorted(times, inner), 1, times.size - 1)
+    off_grid = np.minimum(np.abs(times[position] - inner), np.abs(times[position - 1] - inner)) > EDGE_TOLERANCE_H
+    inner, inner_column = inner[off_grid], inner_column[off_grid]
+    if inner.size == 0:
+        return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)),
+                         levels, level_index)
+    step_of_edge = np.searchsorted(times, inner, side="right") - 1
+    group_key = inner_column * lefts.size + step_of_edge
+    unique_keys, first, per_group = np.unique(group_key, return_index=True, return_counts=True)
+    pieces = int(per_group.max()) + 1
+    group = np.repeat(np.arange(unique_keys.size), per_group)
+    rank = np.arange(inner.size) - first[group]
+    split_column = unique_keys // lefts.size
+    split_step = unique_keys % lefts.size
+    bounds = np.repeat(times[split_step + 1][:, None], pieces + 1, axis=1)
+    bounds[:, 0] = times[split_step]
+    bounds[group, rank + 1] = inner
+    starts = bounds[:, :-1]
+    split_lux = lux_at(np.repeat(split_column[:, None], pieces, axis=1), starts)
+    return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux,
+                     levels, level_index)
+
+
+#: Typical outdoor illuminance used for "daylight" when nothing better is known [lux]
+#: (overcast to bright daylight spans ~1,000-100,000 lux; 10,000 is the usual round figure;
+#: common practice, no single source).
+DEFAULT_DAYLIGHT_LUX = 10_000.0
+
+
+#: Cabin illuminance on a flight while awake [lux] (dimmed cabin and window shades; invented default,
+#: stated so the user can change it).
+DEFAULT_CABIN_LUX = 50.0
+
+
+@dataclass(frozen=True)
+class LightOptions:
+    """The light the traveller can get.
+
+    Attributes
+    ----------
+    indoor_lux : float  [lux]
+    box_lux : float  [lux] light box at the eye
+    box_max_minutes : float  [min/day]
+    glasses_transmission : float  [0..1] dark glasses
+    daylight : bool  whether outdoor daylight may be prescribed
+    daylight_lux : float  [lux]
+    daylight_max_minutes : float  [min/day] prescribed outdoor time
+    cabin_lux : float  [lux]
+    """
+
+    indoor_lux: float = 150.0
+    box_lux: float = 10_000.0
+    box_max_minutes: float = 60.0
+    glasses_transmission: float = 0.1
+    daylight: bool = True
+    daylight_lux: float = DEFAULT_DAYLIGHT_LUX
+    daylight_max_minutes: float = 120.0
+    cabin_lux: float = DEFAULT_CABIN_LUX
+
+
+@dataclass(frozen=True)
+class Window:
+    """A prescribed light window (UTC), with what gives the light."""
+
+    start: datetime
+    end: datetime
+    lux: float
+    source: str
+
+    @property
+    def minutes(self) -> float:
+        return hours_between(self.start, self.end) * 60.0
