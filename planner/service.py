@@ -11,7 +11,12 @@ none holds science. Each use case takes a validated request and returns a result
 - :func:`prc` — a phase response curve (:class:`PrcOutcome`);
 - :func:`describe_model` — a parameter set with its computed properties (:class:`ModelDescription`);
 - :func:`plan_calendars`, :func:`plan_report`, :func:`plan_chart`, :func:`publish_calendar` — a planned
-  outcome's document as calendar files, printable report and chart, and its calendar sent to CalDAV.
+  outcome's document as calendar files, printable report and chart, and its calendar sent to CalDAV;
+- :func:`find_places` — places by name from the offline gazetteer (:class:`PlacesOutcome`).
+
+A trip may come from a file or from a few facts (:func:`planner.trips.quick.quick_trip_scenario`, given as
+``TripRequest.quick``); a roster from a TOML file or from spreadsheets (``RosterRequest.path`` a tuple of
+``.xlsx``/``.csv`` files).
 
 Long work reports progress through an optional callback ``progress(label, done, total)``.
 Bad input raises :class:`planner.errors.InputError` (front ends: exit 2, HTTP 422), a computation
@@ -23,7 +28,7 @@ from __future__ import annotations
 import threading
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from datetime import timezone
+from datetime import date, timezone
 from pathlib import Path
 from typing import Any, Literal
 
@@ -40,6 +45,7 @@ from planner.engine.integrate import model_batch_size, simulate
 from planner.engine.parameters import ModelSpec, available_models, load_model
 from planner.engine.prc import DEFAULT_MEASURE_AFTER_DAYS, PRCSummary, PulseResponse, phase_response_curve, summarise
 from planner.errors import InputError
+from planner.outputs import write_atomic
 from planner.plans.caldav import PublishResult
 from planner.plans.caldav import publish as caldav_publish
 from planner.plans.document import PlanDocument
@@ -48,6 +54,7 @@ from planner.plans.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_b
 from planner.rosters import export as roster_export
 from planner.rosters.model import Roster
 from planner.rosters.scenario import RosterInfo, builtin_roster_paths, load_roster
+from planner.rosters.sheet import is_sheet_path, load_roster_sheets, template_workbook
 from planner.rosters.search import DraftResult, RosterEnsemble, RosterResult, roster_ensemble
 from planner.rosters.search import plan_roster as search_roster
 from planner.rosters.views import RosterDayView, document_from_roster
@@ -56,11 +63,13 @@ from planner.trips import export as trip_export
 from planner.trips.document import document_from_trip
 from planner.trips.evidence import StartingPhase, person_model, starting_phase
 from planner.trips.model import Trip
+from planner.trips.quick import QuickTrip, load_quick_trip
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, model_ensemble, population_report, robust_plan
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
 from planner.trips.search import TripPlanResult
 from planner.trips.search import plan_trip as search_trip
 from planner.trips.views import DayView, day_views, shorter_way
+from planner.world.gazetteer import NamedPlace, PlaceMatch, gazetteer_source, picking_queries, resolve_place, search_places
 from planner.world.lightlog import read_light_log
 
 #: ``progress(label, done, total)``: called as long work goes on.
@@ -146,6 +155,8 @@ def file_kind(path: str | Path) -> FileKind:
     InputFileError
         When the file cannot be read or is not TOML.
     """
+    if is_sheet_path(path):
+        return "roster"
     data, _ = read_toml(path)
     if isinstance(data, dict) and "kind" not in data and "equations" in data:
         return "model"
@@ -179,9 +190,30 @@ def _check_trip(path: str) -> CheckReport:
     return CheckReport(path, "trip", (), trip_export.check_summary(trip, info))
 
 
+def load_any_roster(path: str | Sequence[str]) -> tuple[Roster, RosterInfo]:
+    """A roster from a TOML file, or from one or more spreadsheets (``.xlsx``, ``.csv``; each sheet a draft).
+
+    Raises
+    ------
+    InputError
+        Several files that are not all spreadsheets (a TOML roster holds its drafts itself).
+    InputFileError
+        Every problem of the file(s).
+    """
+    paths = [path] if isinstance(path, (str, Path)) else list(path)
+    if not paths:
+        raise InputError("give a roster file (.toml) or spreadsheets (.xlsx, .csv)", field="roster")
+    if all(is_sheet_path(p) for p in paths):
+        return load_roster_sheets(paths)
+    if len(paths) > 1:
+        raise InputError("several files are compared only as spreadsheets (.xlsx, .csv), each sheet a draft; "
+                         "a roster .toml file holds its drafts itself", field="roster")
+    return load_roster(paths[0])
+
+
 def _check_roster(path: str) -> CheckReport:
     try:
-        roster, info = load_roster(path)
+        roster, info = load_any_roster(path)
     except InputFileError as exc:
         return CheckReport(path, "roster", tuple(exc.problems))
     problems = _model_problems(info.model, path)
@@ -247,6 +279,9 @@ class TripRequest:
         Day after arrival by which re-entrainment counts as success.
     command : str
         Name of the front-end command, recorded in the JSON document.
+    quick : QuickTrip or None
+        A trip given by its facts instead of a file (:func:`planner.trips.quick.quick_trip_scenario`);
+        ``path`` is then ignored.
     """
 
     path: str
@@ -258,6 +293,7 @@ class TripRequest:
     models: tuple[str, ...] = ()
     by_day: int | None = None
     command: str = "trip"
+    quick: QuickTrip | None = None
 
 
 @dataclass(frozen=True)
@@ -312,7 +348,7 @@ def _population_plans(plan: TripPlanResult, robust_result: RobustResult | None) 
 
 def prepare_trip(request: TripRequest) -> tuple[Trip, ScenarioInfo, ModelSpec, StartingPhase]:
     """Load and check everything a trip plan needs before any search: the file, the model(s), the start."""
-    trip, info = load_trip(request.path)
+    trip, info = load_quick_trip(request.quick) if request.quick is not None else load_trip(request.path)
     base_model = load_checked_model(request.model or info.model)
     if request.models:
         model_names(request.models)
@@ -323,6 +359,11 @@ def prepare_trip(request: TripRequest) -> tuple[Trip, ScenarioInfo, ModelSpec, S
             raise InputError(exc.message, source=info.path, field=exc.field) from None
         raise
     return trip, info, base_model, start
+
+
+def save_trip_scenario(quick: QuickTrip, path: str | Path, *, force: bool = False) -> Path:
+    """Write a quick trip as a trip scenario file (atomically; an existing file only with ``force``)."""
+    return write_atomic(path, quick.text(), force=force)
 
 
 def plan_trip(request: TripRequest, progress: ProgressCallback | None = None, *,
@@ -363,7 +404,8 @@ class RosterRequest:
 
     Attributes
     ----------
-    path : str
+    path : str or tuple of str
+        A roster scenario file, or spreadsheets (see :func:`load_any_roster`).
     strategy : {"auto", "nights", "compromise", "day"}
     workers : int
         Simulated workers for the population spread (0: the average worker only).
@@ -378,7 +420,7 @@ class RosterRequest:
     command : str
     """
 
-    path: str
+    path: str | tuple[str, ...]
     strategy: Literal["auto", "nights", "compromise", "day"] = "auto"
     workers: int = 0
     seed: int = 0
@@ -425,7 +467,7 @@ class RosterOutcome:
 
 def prepare_roster(request: RosterRequest) -> tuple[Roster, RosterInfo, ModelSpec]:
     """Load and check everything a roster plan needs before any search."""
-    roster, info = load_roster(request.path)
+    roster, info = load_any_roster(request.path)
     model = load_checked_model(request.model or info.model)
     if request.draft is not None and request.draft not in {d.name for d in roster.drafts}:
         allowed = ", ".join(f'"{d.name}"' for d in roster.drafts)
@@ -436,6 +478,13 @@ def prepare_roster(request: RosterRequest) -> tuple[Roster, RosterInfo, ModelSpe
     if request.models:
         model_names(request.models)
     return roster, info, model
+
+
+def write_roster_template(path: str | Path, start: date | None = None, *, force: bool = False) -> Path:
+    """An empty roster workbook to fill (:func:`planner.rosters.sheet.template_workbook`), written atomically."""
+    if Path(path).suffix.lower() != ".xlsx":
+        raise InputError("the template is a workbook; give a file name ending in .xlsx", field="--template")
+    return write_atomic(path, template_workbook(start), force=force)
 
 
 def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None, *,
@@ -453,6 +502,74 @@ def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None
     if request.models:
         ensemble = roster_ensemble(roster, chosen, [load_checked_model(name) for name in model_names(request.models)])
     return RosterOutcome(request, roster, info, model, result, chosen, roster_export.draft_views(chosen), ensemble)
+
+
+# --------------------------------------------------------------------------- places
+
+@dataclass(frozen=True)
+class PlacesOutcome:
+    """Places matching a name, and the one a scenario's ``place =`` (or ``--from``) would use.
+
+    Attributes
+    ----------
+    query : str
+    matches : tuple of PlaceMatch
+        Exact names, then alternate names, then names the query begins; each group largest first.
+    chosen : NamedPlace or None
+        What :func:`planner.world.gazetteer.resolve_place` gives; None when the name is ambiguous or unknown.
+    reason : str or None
+        Why nothing was chosen.
+    """
+
+    query: str
+    matches: tuple[PlaceMatch, ...]
+    chosen: NamedPlace | None
+    reason: str | None
+
+    def write(self) -> dict[int, str]:
+        """Per place (by ``geonameid``) the query that picks it among the matches."""
+        return picking_queries([m.place for m in self.matches])
+
+    def to_json(self) -> dict[str, Any]:
+        write = self.write()
+        return {"command": "places", "query": self.query, "source": gazetteer_source(),
+                "resolves_to": None if self.chosen is None else place_entry(self.chosen),
+                "unresolved_reason": self.reason,
+                "matches": [{**place_entry(m.place), "write": write[m.place.geonameid], "matched": m.matched}
+                            for m in self.matches]}
+
+
+def place_entry(place: NamedPlace) -> dict[str, Any]:
+    """A gazetteer place as JSON."""
+    return {"name": place.name, "country_code": place.country_code, "country": place.country,
+            "admin1": place.admin1, "qualified": place.qualified, "latitude": place.latitude,
+            "longitude": place.longitude, "time_zone": place.time_zone, "population": place.population,
+            "geonameid": place.geonameid}
+
+
+def find_places(query: str, limit: int = 10) -> PlacesOutcome:
+    """Places by name (see :mod:`planner.world.gazetteer`).
+
+    Raises
+    ------
+    UnknownPlaceError
+        When no place has the name or a name beginning so.
+    InputError
+        For an empty query or a qualifier that is no country or state.
+    """
+    from planner.world.gazetteer import MIN_POPULATION, UnknownPlaceError
+
+    matches = tuple(search_places(query, limit))
+    if not matches:
+        raise UnknownPlaceError(f'no place called "{query.strip()}" and none whose name begins so, in the '
+                                f"gazetteer (towns of {MIN_POPULATION:,} people or more); check the spelling or "
+                                "the country, or give latitude, longitude and time_zone instead")
+    try:
+        return PlacesOutcome(query, matches, resolve_place(query), None)
+    except InputError as exc:
+        if type(exc) is InputError:   # a bad qualifier: the query itself is wrong
+            raise
+        return PlacesOutcome(query, matches, None, exc.message)
 
 
 # --------------------------------------------------------------------------- demos

@@ -193,7 +193,7 @@ def load_roster(path: str | Path) -> tuple[Roster, RosterInfo]:
     """
     path = Path(path)
     spec, text = tomlfile.load_scenario(RosterFile, path, "roster")
-    return _build(spec, text, path)
+    return build_roster(spec, Problems(str(path), text), path)
 
 
 def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: Problems) -> ShiftType | None:
@@ -235,8 +235,13 @@ def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: Problems) -
     return ShiftType(code, start, end, entry.label or code, sleep)
 
 
-def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]:
-    problems = Problems(str(path), text)
+def build_roster(spec: RosterFile, problems, path: Path) -> tuple[Roster, RosterInfo]:
+    """A validated :class:`RosterFile` as a :class:`~planner.rosters.model.Roster` (shared by every roster reader).
+
+    ``problems`` collects the semantic problems (``add(field, message)``, ``raise_if_any()``) and says where each
+    field stands: a TOML line (:class:`planner.scenariofile.Problems`) or a spreadsheet cell
+    (:mod:`planner.rosters.sheet`).  ``path`` is the file relative model paths are read from.
+    """
     model = model_reference(spec.model, path, problems)
     commute_h = spec.workers.commute_minutes / 60.0
     shifts = [s for s in (_shift(code, entry, commute_h, problems) for code, entry in spec.shifts.items()) if s]

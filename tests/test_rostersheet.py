@@ -1,0 +1,217 @@
+"""Rosters from spreadsheets: the demo roster as .xlsx and .csv ranks as its TOML file; the template plans once filled.
+
+The workbooks and CSV files are written here with openpyxl and the csv module straight from the demo's
+TOML (read with tomllib), following the layout the README documents, not with the planner's own code.
+"""
+
+from __future__ import annotations
+
+import csv
+import tomllib
+from datetime import date, datetime, time, timedelta
+from pathlib import Path
+
+import openpyxl
+import pytest
+from typer.testing import CliRunner
+
+from planner.cli import app
+from planner.engine.parameters import load_model
+from planner.rosters.scenario import load_roster
+from planner.rosters.search import plan_roster
+from planner.rosters.sheet import load_roster_sheets, sheet_ref, shortest_period, template_workbook
+from planner.scenariofile import PLACE_FIELDS
+from planner.tomlfile import InputFileError
+from tests.test_cli import assert_one_line_error, one_json_document
+
+REPO = Path(__file__).resolve().parent.parent
+DEMO = REPO / "scenarios" / "harbour-cranes.toml"
+
+
+def _settings_rows(data: dict) -> list[list]:
+    """The demo's settings, shift table and habits as sheet rows (labels as the README lists them)."""
+    site, workers = data["site"], data["workers"]
+    rows = [["# settings of the invented harbour crew"],
+            ["name", data["name"]], ["description", data["description"]], ["model", data["model"]],
+            ["site", site["name"]], ["time zone", site["time_zone"]], ["latitude", site["latitude"]],
+            ["longitude", site["longitude"]], ["crew size", workers["count"]], ["bed", workers["sleep"]["bed"]],
+            ["wake", workers["sleep"]["wake"]], ["sleep hours", workers["sleep_hours"]],
+            ["commute minutes", workers["commute_minutes"]]]
+    rows += [[key.replace("_", " "), value] for key, value in data["light"].items()]
+    rows += [[key.replace("_", " "), ("yes" if value else "no") if isinstance(value, bool) else value]
+             for key, value in data["countermeasures"].items()]
+    rows += [[], ["shift", "start", "end", "label", "sleep bed", "sleep wake"]]
+    for code, shift in data["shifts"].items():
+        sleep = shift.get("sleep", {})
+        rows.append([code, shift["start"], shift["end"], shift.get("label", ""), sleep.get("bed"), sleep.get("wake")])
+    return rows
+
+
+def _grid_rows(data: dict, draft: dict, as_dates: bool) -> list[list]:
+    """One row per crew, its rotated pattern under consecutive dates (an empty cell for a day off)."""
+    start = date.fromisoformat(data["start_date"])
+    days = len(draft["pattern"]) * draft["cycles"]
+    header = ["crew"] + [(start + timedelta(days=d)) if as_dates else (start + timedelta(days=d)).isoformat()
+                         for d in range(days)]
+    rows = [header]
+    for crew in data["crews"]:
+        k = crew["offset_days"] % len(draft["pattern"])
+        rotated = (draft["pattern"][k:] + draft["pattern"][:k]) * draft["cycles"]
+        rows.append([crew["name"]] + [None if code == "off" else code for code in rotated])
+    return rows
+
+
+@pytest.fixture(scope="module")
+def demo_data() -> dict:
+    return tomllib.loads(DEMO.read_text(encoding="utf-8"))
+
+
+@pytest.fixture(scope="module")
+def demo_files(tmp_path_factory, demo_data):
+    folder = tmp_path_factory.mktemp("sheets")
+    book = openpyxl.Workbook()
+    settings = book.active
+    settings.title = "settings"
+    for row in _settings_rows(demo_data):
+        settings.append(row)
+    for draft in demo_data["drafts"]:
+        sheet = book.create_sheet(draft["name"])
+        for row in _grid_rows(demo_data, draft, as_dates=True):
+            sheet.append(row)
+    book.save(folder / "harbour.xlsx")
+    csv_files = []
+    for k, draft in enumerate(demo_data["drafts"]):
+        path = folder / f"{draft['name'].split()[0]}.csv"
+        with path.open("w", newline="", encoding="utf-8") as stream:
+            writer = csv.writer(stream, delimiter=";" if k else ",")   # both separators spreadsheets write
+            if k == 0:   # the settings once; the second file uses them
+                writer.writerows(_settings_rows(demo_data) + [[]])
+            writer.writerows(_grid_rows(demo_data, draft, as_dates=False))
+        csv_files.append(path)
+    return folder / "harbour.xlsx", csv_files
+
+
+def _ranking(roster) -> list[tuple[tuple, str, float]]:
+    result = plan_roster(roster, load_model("forger1999"))
+    return [(d.draft.pattern, d.best_strategy, round(d.rank_score, 9)) for d in result.drafts]
+
+
+def test_demo_roster_as_xlsx_and_csv_ranks_as_the_toml(demo_files):
+    workbook, csv_files = demo_files
+    from_toml, _ = load_roster(DEMO)
+    from_xlsx, xlsx_info = load_roster_sheets(workbook)
+    from_csv, _ = load_roster_sheets(csv_files)
+    # The sheets give the same site, shifts, habits, crews and rotations (8 days x 3 and 16 days x 2, as in the file).
+    for sheets in (from_xlsx, from_csv):
+        assert sheets.site == from_toml.site and sheets.shifts == from_toml.shifts and sheets.crews == from_toml.crews
+        assert [(d.pattern, d.cycles) for d in sheets.drafts] == [(d.pattern, d.cycles) for d in from_toml.drafts]
+        assert sheets.measures == from_toml.measures and sheets.start == from_toml.start
+    assert [d.name for d in from_xlsx.drafts] == [d.name for d in from_toml.drafts]   # named by their sheets
+    assert xlsx_info.name == from_toml.name
+    # The same ranking: order, chosen strategy and score (regression against the TOML run, measured here).
+    expected = _ranking(from_toml)
+    assert _ranking(from_xlsx) == expected
+    assert _ranking(from_csv) == expected
+
+
+def test_template_opens_in_openpyxl_and_plans_once_filled(tmp_path):
+    path = tmp_path / "template.xlsx"
+    path.write_bytes(template_workbook(date(2027, 3, 1), days=14))
+    book = openpyxl.load_workbook(path)
+    assert book.sheetnames == ["settings", "draft 1"]
+    settings, grid = book["settings"], book["draft 1"]
+    labels = {settings.cell(row=r, column=1).value: r for r in range(1, settings.max_row + 1)}
+    # A planner fills it in: an invented ward in Rotterdam looked up by name, day and night shifts.
+    for label, value in {"site": "Invented ward", "place": "Rotterdam, NL", "bed": time(23, 0), "wake": time(7, 0),
+                         "name": "Test ward"}.items():
+        settings.cell(row=labels[label], column=2, value=value)
+    header = labels["shift"]
+    settings.cell(row=header + 1, column=1, value="D")   # overwrite the example note
+    for column, value in enumerate(["07:00", "19:00", "day"], start=2):
+        settings.cell(row=header + 1, column=column, value=value)
+    for column, value in enumerate(["N", "19:00", "07:00", "night", "08:30", "15:30"], start=1):
+        settings.cell(row=header + 2, column=column, value=value)
+    assert grid.cell(row=1, column=1).value == "crew"
+    assert grid.cell(row=1, column=2).value.date() == date(2027, 3, 1)
+    for k, code in enumerate(["D", "D", "N", "N", None, None, None] * 2):
+        grid.cell(row=2, column=k + 2, value=code)
+    book.save(path)
+    roster, info = load_roster_sheets(path)
+    # Rotterdam: Europe/Amsterdam (IANA tz database); the 7-day rotation is found twice over.
+    assert str(roster.site.zone) == "Europe/Amsterdam" and roster.site.name == "Invented ward"
+    assert roster.drafts[0].pattern == ("D", "D", "N", "N", None, None, None) and roster.drafts[0].cycles == 2
+    assert [s.kind for s in roster.shifts] == ["day", "night"]   # 19:00-07:00 holds 5 h of 00:00-05:00 (EU rule)
+    result = CliRunner().invoke(app, ["roster", str(path), "--json"])
+    assert result.exit_code == 0, result.stderr
+    document = one_json_document(result.stdout)
+    assert [r["draft"] for r in document["ranking"]] == ["draft 1"]
+    assert len(document["plan"]["days"]) == 14
+
+
+def test_template_is_written_once_without_force(tmp_path):
+    path = tmp_path / "roster.xlsx"
+    result = CliRunner().invoke(app, ["roster", "--template", str(path), "--start", "2027-03-01"])
+    assert result.exit_code == 0, result.stderr
+    assert openpyxl.load_workbook(path)["draft 1"].cell(row=1, column=2).value.date() == date(2027, 3, 1)
+    line = assert_one_line_error(CliRunner().invoke(app, ["roster", "--template", str(path)]))
+    assert "exists; use --force" in line
+
+
+def _problems(paths) -> list[str]:
+    with pytest.raises(InputFileError) as caught:
+        load_roster_sheets(paths)
+    return [p.one_line() for p in caught.value.problems]
+
+
+def test_each_cell_problem_names_sheet_and_cell(demo_files, tmp_path):
+    workbook, _ = demo_files
+    book = openpyxl.load_workbook(workbook)
+    book["fast 2-2-4"]["E3"] = "X"                 # crew B, a code no shift has
+    book["slow 4-4-4-4"]["D1"] = datetime(2027, 2, 1)   # a date out of sequence
+    broken = tmp_path / "broken.xlsx"
+    book.save(broken)
+    problems = _problems(broken)
+    assert any("'fast 2-2-4'!E3: \"X\" is not a shift code; allowed: \"D\", \"N\"" in p for p in problems), problems
+    assert any("'slow 4-4-4-4'!D1: 2027-02-01 follows 2027-01-12; allowed: 2027-01-13" in p for p in problems)
+
+    book = openpyxl.load_workbook(workbook)
+    settings = book["settings"]
+    zone_row = next(r for r in range(1, settings.max_row + 1) if settings.cell(row=r, column=1).value == "time zone")
+    settings.cell(row=zone_row, column=2, value="Europe/Amsterdm")
+    book.save(broken)
+    problems = _problems(broken)
+    assert len(problems) == 1 and f"settings!B{zone_row}: time zone:" in problems[0]
+    line = assert_one_line_error(CliRunner().invoke(app, ["roster", str(broken)]))
+    assert f"settings!B{zone_row}" in line
+
+
+def test_a_crew_off_the_rotation_is_pointed_at(demo_files, tmp_path):
+    workbook, _ = demo_files
+    book = openpyxl.load_workbook(workbook)
+    book["fast 2-2-4"]["C4"] = "N"   # crew C (offset 4: off off off off D D N N) gets a night on its second day
+    broken = tmp_path / "rotation.xlsx"
+    book.save(broken)
+    problems = _problems(broken)
+    assert problems == [f"{broken}: 'fast 2-2-4'!C4: crew \"C\" does not work the rotation of crew \"A\" (row 2) "
+                        "from another day of it; allowed: the same rotation shifted by whole days (put a different "
+                        "rotation on its own sheet)"]
+
+
+def test_check_accepts_a_sheet_and_reports_a_missing_site(tmp_path):
+    path = tmp_path / "empty.xlsx"
+    path.write_bytes(template_workbook(date(2027, 3, 1)))
+    result = CliRunner().invoke(app, ["check", str(path), "--json"])
+    assert result.exit_code == 2
+    document = one_json_document(result.stdout)
+    assert any(p["field"] == "settings!B7" for p in document["problems"]), document["problems"]
+
+
+def test_shortest_period_and_sheet_refs():
+    # An 8-day rotation worked three times over is one pattern of 8 (the roster file's pattern x cycles).
+    assert shortest_period(list("DDNN....") * 3) == 8
+    assert shortest_period(list("DDNN...D")) == 8
+    assert shortest_period(["D"] * 5) == 1
+    # Spreadsheet notation: quotes around names with spaces, column 27 is AA (common practice of spreadsheets).
+    assert sheet_ref("fast 2-2-4", 3, 5) == "'fast 2-2-4'!E3"
+    assert sheet_ref("settings", 7, 27) == "settings!AA7"
+    assert PLACE_FIELDS == ("time_zone", "latitude", "longitude")
