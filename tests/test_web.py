@@ -13,12 +13,14 @@ import re
 import sqlite3
 import threading
 import time
+import tomllib
 import warnings
 from pathlib import Path
 
+import openpyxl
 import pytest
 import vobject
-from conftest import lisbon_trip_toml
+from conftest import lisbon_trip_toml, memoised_searches
 from typer.testing import CliRunner
 
 import planner.service
@@ -34,12 +36,10 @@ with warnings.catch_warnings():   # newer Starlette prefers another HTTP client 
 
 REPO = Path(__file__).resolve().parent.parent
 
-#: An invented traveller's trip filled into the form: Lisbon to Helsinki, two hours east.
+#: An invented traveller's trip filled into the form: Lisbon to Helsinki (by name), two hours east.
 FORM = {
-    "label": "traveller 7 <script>alert(1)</script>",
-    "home_name": "Lisbon", "home_time_zone": "Europe/Lisbon", "home_latitude": "38.72", "home_longitude": "-9.14",
-    "destination_name": "Helsinki", "destination_time_zone": "Europe/Helsinki", "destination_latitude": "60.17",
-    "destination_longitude": "24.94", "depart": "2027-05-10 08:00", "arrive": "2027-05-10 14:00",
+    "label": "traveller 7 <script>alert(1)</script>", "home_place": "Lisbon", "destination_place": "Helsinki",
+    "depart": "2027-05-10 08:00", "arrive": "2027-05-10 14:00",
     "stay_days": "2", "preparation_days": "1", "bed": "23:00", "wake": "07:00", "light_box": "on",
     "daylight": "on", "box_lux": "10000", "box_max_minutes": "60", "strategy": "auto", "people": "0", "seed": "0",
 }
@@ -48,18 +48,7 @@ FORM = {
 @pytest.fixture(scope="module", autouse=True)
 def reuse_searches():
     """Memoise trip and roster searches by scenario name and arguments for this module."""
-    patch = pytest.MonkeyPatch()
-    for name in ("search_trip", "search_roster"):
-        real, cache = getattr(planner.service, name), {}
-
-        def memo(*args, _real=real, _cache=cache, **kwargs):
-            key = (args[0].name if hasattr(args[0], "name") else id(args[0]), repr(args[1:]),
-                   repr(sorted((k, v) for k, v in kwargs.items() if k != "progress")))
-            if key not in _cache:
-                _cache[key] = _real(*args, **kwargs)
-            return _cache[key]
-
-        patch.setattr(planner.service, name, memo)
+    patch = memoised_searches()
     yield
     patch.undo()
 
@@ -239,10 +228,44 @@ def test_missing_csrf_token_is_refused(client, data):
     assert counts(data) == before
 
 
+#: The same trip given by time zones and coordinates instead of place names.
+BY_COORDINATES = {**FORM, "home_place": "", "destination_place": "", "home_name": "Lisbon",
+                  "home_time_zone": "Europe/Lisbon", "home_latitude": "38.72", "home_longitude": "-9.14",
+                  "destination_name": "Helsinki", "destination_time_zone": "Europe/Helsinki",
+                  "destination_latitude": "60.17", "destination_longitude": "24.94"}
+
+
+def test_unknown_place_is_reported_and_nothing_stored(client, data):
+    # a name the gazetteer lacks comes back as the scenario check's line, the form filled in again (issue)
+    before = counts(data)
+    answer = client.post("/trip", data={**FORM, "destination_place": "Xyzzyqq", "csrf": csrf(client)})
+    assert answer.status_code == 422
+    assert "destination.place" in answer.text and "no place called &#34;Xyzzyqq&#34;" in answer.text
+    assert 'value="Xyzzyqq"' in answer.text
+    assert counts(data) == before
+
+
+def test_ambiguous_place_lists_candidates_and_nothing_stored(client, data):
+    # several US cities are called Springfield (GeoNames); the message names how to pick one
+    before = counts(data)
+    answer = client.post("/trip", data={**FORM, "destination_place": "Springfield", "csrf": csrf(client)})
+    assert answer.status_code == 422
+    assert "Springfield, US-MO" in answer.text and "Springfield, US-MA" in answer.text
+    assert counts(data) == before
+
+
+def test_place_suggestions(client):
+    # typing a name offers the gazetteer's places; Helsinki is in Europe/Helsinki (IANA tz database)
+    found = client.get("/places?q=Helsin").json()["matches"]
+    assert found[0] == {"write": "Helsinki, FI", "describe": "Helsinki, Finland (Europe/Helsinki)"}
+    assert client.get("/places?q=Xyzzyqq").json()["matches"] == []
+
+
 def test_unknown_time_zone_is_reported_and_nothing_stored(client, data):
     # a wrong field comes back as the scenario check's line, with the form filled in again (issue: bad input)
     before = counts(data)
-    answer = client.post("/trip", data={**FORM, "destination_time_zone": "Mars/Olympus_Mons", "csrf": csrf(client)})
+    answer = client.post("/trip", data={**BY_COORDINATES, "destination_time_zone": "Mars/Olympus_Mons",
+                                        "csrf": csrf(client)})
     assert answer.status_code == 422
     assert "destination.time_zone" in answer.text and "Mars/Olympus_Mons" in answer.text
     assert counts(data) == before
@@ -250,7 +273,7 @@ def test_unknown_time_zone_is_reported_and_nothing_stored(client, data):
 
 def test_a_field_that_is_not_a_number(client, data):
     before = counts(data)
-    answer = client.post("/trip", data={**FORM, "home_latitude": "north", "csrf": csrf(client)})
+    answer = client.post("/trip", data={**BY_COORDINATES, "home_latitude": "north", "csrf": csrf(client)})
     assert answer.status_code == 422 and "home latitude: &#39;north&#39; is not a number" in answer.text
     assert counts(data) == before
 
@@ -261,6 +284,9 @@ def test_unreadable_upload(client, data):
     answer = client.post("/roster", data={"csrf": csrf(client, "/roster")},
                          files={"file": ("crew.toml", b"\xff\xfe\x00binary\x00", "application/octet-stream")})
     assert answer.status_code == 422 and "crew.toml: unreadable upload: not UTF-8 text" in answer.text
+    garbage = client.post("/roster", data={"csrf": csrf(client, "/roster")},
+                          files={"file": ("crew.xlsx", b"PK\x03\x04 not really a workbook", "application/octet-stream")})
+    assert garbage.status_code == 422 and "crew.xlsx" in garbage.text
     assert counts(data) == before
 
 
@@ -380,6 +406,35 @@ def test_roster_upload_ranks_the_drafts(client, tmp_path, monkeypatch):
         assert ics_events(client.get(f"/plans/{job['plan_id']}/calendar.ics?crew={crew}").text)
 
 
+def test_roster_spreadsheet_ranks_as_its_toml(client, tmp_path):
+    # the demo roster written as a workbook with openpyxl (README "Roster spreadsheets") ranks as its TOML file
+    from test_rostersheet import _grid_rows, _settings_rows
+
+    demo = tomllib.loads((REPO / "scenarios" / "harbour-cranes.toml").read_text(encoding="utf-8"))
+    book = openpyxl.Workbook()
+    book.active.title = "settings"
+    for row in _settings_rows(demo):
+        book.active.append(row)
+    for draft in demo["drafts"]:
+        sheet = book.create_sheet(draft["name"])
+        for row in _grid_rows(demo, draft, as_dates=True):
+            sheet.append(row)
+    book.save(tmp_path / "harbour.xlsx")
+    answer = client.post("/roster", data={"csrf": csrf(client, "/roster")}, follow_redirects=False,
+                         files={"file": ("harbour.xlsx", (tmp_path / "harbour.xlsx").read_bytes(),
+                                         "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet")})
+    assert answer.status_code == 303, answer.text
+    job = wait_for(client, answer.headers["location"])
+    assert job["state"] == "done", job
+    document = client.get(f"/plans/{job['plan_id']}/plan.json").json()
+    ranked = [(d["draft"], round(d["rank_score_h_per_week"], 6)) for d in document["ranking"]]
+    toml_plan = json.loads(CliRunner().invoke(cli_app, ["roster", str(REPO / "scenarios" / "harbour-cranes.toml"),
+                                                        "--json"]).stdout)
+    assert ranked == [(d["draft"], round(d["rank_score_h_per_week"], 6)) for d in toml_plan["ranking"]]
+    download = client.get(f"/plans/{job['plan_id']}/scenario.toml")
+    assert download.content == (tmp_path / "harbour.xlsx").read_bytes()   # kept as uploaded
+
+
 def test_a_trip_on_the_roster_page_is_refused(client, data):
     before = counts(data)
     answer = client.post("/roster", data={"csrf": csrf(client, "/roster"), "text": TRIP})
@@ -399,9 +454,10 @@ def test_schema_migrates_a_version_one_file(tmp_path):
                            "CAST('BEGIN:VCALENDAR' AS BLOB), '<html>', NULL, '2026-01-01T00:00:00+00:00')")
     store = PlanStore(tmp_path)
     with sqlite3.connect(tmp_path / DATABASE_NAME) as connection:
-        assert connection.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 2
+        assert connection.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 3
     plan = store.get("p1")
     assert plan.label == "old plan" and plan.options == {} and plan.document == {"command": "trip"}
+    assert plan.scenario_name == "scenario.toml" and plan.scenario_file is None
     assert plan.calendars == {"": "BEGIN:VCALENDAR"}
     assert store.delete("p1") and store.counts() == (0, 0)
 

@@ -40,8 +40,10 @@ from planner.web.security import DEFAULT_UPLOAD_LIMIT, SESSION_COOKIE, FormToken
 from planner.web.store import PlanStore
 
 HERE = Path(__file__).resolve().parent
-#: Scenario files the roster page accepts.
-ROSTER_SUFFIXES = (".toml",)
+#: Scenario files the roster page accepts: a roster file, or a spreadsheet (README "Roster spreadsheets").
+ROSTER_SUFFIXES = (".toml", ".xlsx", ".csv")
+#: Places offered while typing a place's name.
+PLACE_SUGGESTIONS = 8
 #: Parts of a multipart form accepted (files and fields).
 MAX_FORM_PARTS = 200
 
@@ -96,8 +98,10 @@ class Desk:
     def page(self, request: Request, template: str, status: int = 200, **context: Any) -> HTMLResponse:
         session = request.cookies.get(SESSION_COOKIE) or FormTokens.new_session()
         html = self.templates.get_template(template).render(
-            csrf=self.tokens.token(session), version=__version__, models=self.models, gazetteer=False,
-            roster_accept=",".join(ROSTER_SUFFIXES), roster_formats='A roster scenario file (.toml, kind = "roster")',
+            csrf=self.tokens.token(session), version=__version__, models=self.models, gazetteer=True,
+            roster_accept=",".join(ROSTER_SUFFIXES),
+            roster_formats='A roster scenario file (.toml, kind = "roster") or a roster spreadsheet (.xlsx, or .csv '
+                           'as UTF-8; see the README on roster spreadsheets)',
             upload_limit_text=f"{self.settings.upload_limit / 1024 / 1024:g} MB", **context)
         response = HTMLResponse(html, status_code=status)
         if request.cookies.get(SESSION_COOKIE) != session:
@@ -169,17 +173,22 @@ async def trip_submit(request: Request):
 
 async def roster_form(request: Request):
     desk: Desk = request.app.state.desk
-    return desk.page(request, "roster.html", problems=[], demos=desk.demo_rosters, plan_id=None, text="",
+    return desk.page(request, "roster.html", problems=[], demos=desk.demo_rosters, plan_id=None, text="", uploaded=None,
                      options={"strategy": "auto", "people": 0, "seed": 0, "robust": False})
 
 
-async def _upload_text(upload: UploadFile) -> tuple[str, str]:
-    """(file name, text) of an uploaded scenario; InputError when it cannot be read."""
+async def _upload_text(upload: UploadFile) -> tuple[str, str | bytes]:
+    """(file name, TOML text or spreadsheet bytes) of an uploaded roster; InputError when it cannot be read."""
     name = Path(upload.filename or "upload.toml").name
-    if Path(name).suffix.lower() not in ROSTER_SUFFIXES:
-        raise InputError(f"unsupported file type {Path(name).suffix or '(none)'}; allowed: "
-                         f"{', '.join(ROSTER_SUFFIXES)}", source=name)
+    suffix = Path(name).suffix.lower()
+    if suffix not in ROSTER_SUFFIXES:
+        raise InputError(f"unsupported file type {suffix or '(none)'}; allowed: {', '.join(ROSTER_SUFFIXES)}",
+                         source=name)
     data = await upload.read()
+    if not data:
+        raise InputError("unreadable upload: the file is empty", source=name)
+    if suffix != ".toml":
+        return name, data   # the spreadsheet reader reports what it cannot read, cell by cell
     try:
         return name, data.decode("utf-8")
     except UnicodeDecodeError:
@@ -207,7 +216,7 @@ async def roster_submit(request: Request):
             name, text = chosen.path.name, chosen.path.read_text(encoding="utf-8")
     except InputError as exc:
         problems.append(exc.one_line())
-    if not text.strip() and not problems:
+    if isinstance(text, str) and not text.strip() and not problems:
         problems.append("form: give a roster scenario: upload a file, pick a demo roster or paste its TOML")
     problems += options_problems
     checked = None
@@ -218,8 +227,9 @@ async def roster_submit(request: Request):
         problems = [f"{name}: kind: this is a {checked.kind} scenario; plan it on the trip page or with POST /api/plan"]
     if problems:
         return desk.page(request, "roster.html", 422, problems=problems, demos=desk.demo_rosters, plan_id=plan_id,
-                         text=text, options=options)
-    job = desk.jobs.submit(Submission("roster", forms.scenario_label(text) or name, text, name, options, plan_id))
+                         text=text if isinstance(text, str) else "", uploaded=None, options=options)
+    label = (forms.scenario_label(text) if isinstance(text, str) else "") or name
+    job = desk.jobs.submit(Submission("roster", label, text, name, options, plan_id))
     return RedirectResponse(f"/jobs/{job.id}", status_code=303)
 
 
@@ -261,6 +271,7 @@ async def plan_edit(request: Request):
                          busy_rows=range(1, forms.BUSY_ROWS + 1))
     return desk.page(request, "roster.html" if plan.kind == "roster" else "scenario.html", problems=[],
                      demos=desk.demo_rosters, plan_id=plan.id, text=plan.scenario_toml,
+                     uploaded=plan.scenario_name if plan.scenario_file is not None else None,
                      options={"strategy": "auto", "people": 0, "seed": 0, "robust": False, **plan.options})
 
 
@@ -340,6 +351,8 @@ async def plan_file(request: Request):
             raise _Refused(404, "No such calendar", [f"crew: {crew!r} has no calendar in this plan"])
         return _download(calendar, "text/calendar; charset=utf-8", f"{stem}{'-' + crew if crew else ''}.ics")
     if what == "scenario.toml":
+        if plan.scenario_file is not None:   # a roster spreadsheet, as uploaded
+            return _download(plan.scenario_file, "application/octet-stream", f"{stem}-{plan.scenario_name}")
         return _download(plan.scenario_toml, "application/toml; charset=utf-8", f"{stem}.toml")
     if what == "plan.json":
         return _download(json.dumps(plan.document, indent=2, ensure_ascii=False), "application/json", f"{stem}.json")
@@ -381,6 +394,21 @@ async def api_plan(request: Request):
     return JSONResponse(job.document, headers={"Location": f"/plans/{job.plan_id}"})
 
 
+async def places(request: Request):
+    """``GET /places?q=NAME``: places of the offline gazetteer whose names match, for the form's suggestions."""
+    query = request.query_params.get("q", "").strip()
+    if len(query) < 2:
+        return JSONResponse({"query": query, "matches": []})
+    try:
+        found = await run_in_threadpool(service.find_places, query, PLACE_SUGGESTIONS)
+    except InputError as exc:
+        return JSONResponse({"query": query, "matches": [], "problem": exc.one_line()})
+    document = found.to_json()
+    return JSONResponse({"query": query, "matches": [
+        {"write": m["write"], "describe": f"{m['name']}, {m['country']} ({m['time_zone']})"}
+        for m in document["matches"]]})
+
+
 async def healthz(request: Request):
     return PlainTextResponse("ok")
 
@@ -402,6 +430,7 @@ def create_app(settings: Settings) -> Guard:
     routes = [
         Route("/", index),
         Route("/healthz", healthz),
+        Route("/places", places),
         Route("/trip", trip_form, methods=["GET"]),
         Route("/trip", trip_submit, methods=["POST"]),
         Route("/roster", roster_form, methods=["GET"]),

@@ -78,18 +78,21 @@ def _number(values: dict[str, str], name: str, problems: list[str], kind: type =
 
 
 def _place(values: dict[str, str], prefix: str, problems: list[str]) -> dict[str, Any]:
-    """A [home] or [destination] table: by place name when given, else by zone and coordinates."""
-    name = values[f"{prefix}_name"] or values[f"{prefix}_place"] or prefix
-    table: dict[str, Any] = {"name": name}
+    """A [home] or [destination] table: by place name (the gazetteer) when given, else by zone and coordinates."""
+    table: dict[str, Any] = {}
+    if values[f"{prefix}_name"]:
+        table["name"] = values[f"{prefix}_name"]
     if values[f"{prefix}_place"]:
         table["place"] = values[f"{prefix}_place"]
         return table
+    table.setdefault("name", prefix)
     table["time_zone"] = values[f"{prefix}_time_zone"]
     for axis in ("latitude", "longitude"):
-        number = _number(values, f"{prefix}_{axis}", problems)
-        if number is None and f"{prefix}_{axis}" not in {p.split(":")[1].strip() for p in problems}:
-            problems.append(f"form: {prefix} {axis}: give the {axis} in degrees, or search the place by name")
-        table[axis] = number if number is not None else 0.0
+        key = f"{prefix}_{axis}"
+        if values[key] == "":
+            problems.append(f"form: {prefix} {axis}: give the place's name, or its {axis} in degrees")
+        number = _number(values, key, problems)
+        table[axis] = 0.0 if number is None else number
     return table
 
 

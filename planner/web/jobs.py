@@ -62,13 +62,18 @@ class Checked:
     summary: dict[str, Any]
 
 
-def check_scenario(text: str, name: str) -> Checked | list[str]:
-    """Check a scenario text as ``phaseplan check`` does; the problem lines, or what it is."""
-    problems = server_file_problems(text, name, tuple(m.id for m in service.list_models()))
-    if problems:
-        return problems
+def check_scenario(text: str | bytes, name: str) -> Checked | list[str]:
+    """Check a scenario (TOML text, or a roster spreadsheet's bytes) as ``phaseplan check`` does; the problem
+    lines, or what it is."""
+    if isinstance(text, str):
+        problems = server_file_problems(text, name, tuple(m.id for m in service.list_models()))
+        if problems:
+            return problems
     with scenario_file(text, name) as path:
-        report = service.check_file(path)
+        try:
+            report = service.check_file(path)
+        except InputError as exc:   # a file that cannot be read at all (``phaseplan check``: one error line)
+            return [_shown(exc.one_line(), path, name)]
         lines = [_shown(problem.one_line(), path, name) for problem in report.problems]
     if lines:
         return lines
@@ -84,7 +89,7 @@ def option_problems(kind: str, options: dict[str, Any]) -> list[str]:
     return []
 
 
-def plan_document(kind: str, text: str, name: str, options: dict[str, Any], progress=None) -> tuple[dict, Any]:
+def plan_document(kind: str, text: str | bytes, name: str, options: dict[str, Any], progress=None) -> tuple[dict, Any]:
     """Plan a checked scenario through the service: (the JSON document of ``--json``, the outcome)."""
     with scenario_file(text, name) as path:
         try:
@@ -147,7 +152,7 @@ class Submission:
 
     kind: str
     label: str
-    text: str
+    text: str | bytes                # a scenario's TOML, or a roster spreadsheet as uploaded
     name: str
     options: dict[str, Any]
     plan_id: str | None = None       # re-plan this saved plan (its result is replaced)
@@ -193,7 +198,8 @@ class JobRunner:
                 previous = saved.calendars if saved is not None else None
             result = render_result(document, outcome, previous)
             job.plan_id = self.store.save(submission.plan_id, submission.kind, submission.label, submission.text,
-                                          result, form=submission.form, options=submission.options)
+                                          result, name=submission.name, form=submission.form,
+                                          options=submission.options)
             job.document = document
             job.state, job.step = "done", "done"
         except InputError as exc:

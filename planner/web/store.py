@@ -1,7 +1,7 @@
 """Saved plans: each plan's scenario and its result in one SQLite file under the data folder.
 
-A saved plan is a row of ``plans`` (the scenario as TOML, the trip form's fields when it came from the
-form, a label that stands in for the person's name) and at most one row of ``results`` (the JSON document
+A saved plan is a row of ``plans`` (the scenario as TOML, or the roster spreadsheet as uploaded; the trip
+form's fields when it came from the form; a label that stands in for the person's name) and at most one row of ``results`` (the JSON document
 of ``phaseplan trip|roster --json``, the calendar files, the printable report and the chart). Deleting a
 plan deletes both in one transaction. Nothing here plans: the rows are written by :mod:`planner.web.jobs`.
 
@@ -52,6 +52,9 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
      "ALTER TABLE results ADD COLUMN calendars_json TEXT NOT NULL DEFAULT '{}'",
      # a version-1 result's single calendar becomes the whole plan's entry (key "")
      """UPDATE results SET calendars_json = json_object('', CAST(ics AS TEXT)) WHERE ics IS NOT NULL"""),
+    # 2 → 3: a roster planned from a spreadsheet keeps the file as uploaded (name and bytes)
+    ("ALTER TABLE plans ADD COLUMN scenario_name TEXT NOT NULL DEFAULT 'scenario.toml'",
+     "ALTER TABLE plans ADD COLUMN scenario_file BLOB"),
 )
 
 #: The schema version this code writes.
@@ -78,6 +81,11 @@ class SavedPlan:
     label : str
         What the user called it (no real name needed).
     scenario_toml : str
+        The scenario's TOML text ("" for a spreadsheet).
+    scenario_name : str
+        The scenario's file name (its suffix says what it is: .toml, .xlsx, .csv).
+    scenario_file : bytes or None
+        A spreadsheet as uploaded (None for TOML).
     form : dict or None
         The trip form's fields, when the plan came from the form (to edit it there again).
     options : dict
@@ -95,6 +103,8 @@ class SavedPlan:
     kind: str
     label: str
     scenario_toml: str
+    scenario_name: str
+    scenario_file: bytes | None
     form: dict[str, Any] | None
     options: dict[str, Any]
     created: str
@@ -155,40 +165,26 @@ class PlanStore:
         with self._lock, self._connect() as connection, connection:
             yield connection
 
-    def add(self, kind: str, label: str, scenario_toml: str, *, form: dict | None = None,
-            options: dict | None = None, plan_id: str | None = None) -> str:
-        """Store a new plan's scenario (no result yet); return its id."""
-        plan_id = plan_id or new_id()
+    def save(self, plan_id: str | None, kind: str, label: str, scenario: str | bytes, result: PlanResult, *,
+             name: str = "scenario.toml", form: dict | None = None, options: dict | None = None) -> str:
+        """Store a planned scenario (TOML text, or a spreadsheet's bytes) and its result in one transaction: a new
+        plan, or a new version of ``plan_id`` (its result replaced). Return the plan's id."""
         stamp = _now()
-        with self._writing() as connection:
-            connection.execute(
-                "INSERT INTO plans (id, kind, label, scenario_toml, form_json, options_json, created, updated) "
-                "VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
-                (plan_id, kind, label, scenario_toml, None if form is None else json.dumps(form),
-                 json.dumps(options or {}), stamp, stamp))
-        return plan_id
-
-    def save(self, plan_id: str | None, kind: str, label: str, scenario_toml: str, result: PlanResult, *,
-             form: dict | None = None, options: dict | None = None) -> str:
-        """Store a planned scenario and its result in one transaction: a new plan, or a new version of
-        ``plan_id`` (its result replaced). Return the plan's id."""
-        stamp = _now()
+        text, blob = (scenario, None) if isinstance(scenario, str) else ("", scenario)
+        fields = (kind, label, text, name, blob, None if form is None else json.dumps(form), json.dumps(options or {}))
         with self._writing() as connection:
             exists = plan_id is not None and connection.execute(
                 "SELECT 1 FROM plans WHERE id = ?", (plan_id,)).fetchone() is not None
             if exists:
                 connection.execute(
-                    "UPDATE plans SET kind = ?, label = ?, scenario_toml = ?, form_json = ?, options_json = ?, "
-                    "updated = ? WHERE id = ?",
-                    (kind, label, scenario_toml, None if form is None else json.dumps(form),
-                     json.dumps(options or {}), stamp, plan_id))
+                    "UPDATE plans SET kind = ?, label = ?, scenario_toml = ?, scenario_name = ?, scenario_file = ?, "
+                    "form_json = ?, options_json = ?, updated = ? WHERE id = ?", (*fields, stamp, plan_id))
             else:
                 plan_id = plan_id or new_id()
                 connection.execute(
-                    "INSERT INTO plans (id, kind, label, scenario_toml, form_json, options_json, created, updated) "
-                    "VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
-                    (plan_id, kind, label, scenario_toml, None if form is None else json.dumps(form),
-                     json.dumps(options or {}), stamp, stamp))
+                    "INSERT INTO plans (id, kind, label, scenario_toml, scenario_name, scenario_file, form_json, "
+                    "options_json, created, updated) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                    (plan_id, *fields, stamp, stamp))
             whole = result.calendars.get("")
             connection.execute(
                 "INSERT OR REPLACE INTO results (plan_id, document_json, ics, report_html, chart_svg, planned, "
@@ -208,7 +204,9 @@ class PlanStore:
         """Every saved plan, the most recently changed first (without the large result columns)."""
         with self._connect() as connection:
             rows = connection.execute(
-                "SELECT p.*, NULL AS document_json, NULL AS calendars_json, r.planned FROM plans p "
+                "SELECT p.id, p.kind, p.label, '' AS scenario_toml, p.scenario_name, NULL AS scenario_file, "
+                "p.form_json, p.options_json, p.created, p.updated, NULL AS document_json, NULL AS calendars_json, "
+                "r.planned FROM plans p "
                 "LEFT JOIN results r ON r.plan_id = p.id ORDER BY p.updated DESC, p.created DESC").fetchall()
         return [_saved(row) for row in rows]
 
@@ -229,9 +227,9 @@ class PlanStore:
         stamp = _now()
         with self._writing() as connection:
             connection.execute(
-                "INSERT INTO plans (id, kind, label, scenario_toml, form_json, options_json, created, updated) "
-                "SELECT ?, kind, ?, scenario_toml, form_json, options_json, ?, ? FROM plans WHERE id = ?",
-                (copy_id, label, stamp, stamp, plan_id))
+                "INSERT INTO plans (id, kind, label, scenario_toml, scenario_name, scenario_file, form_json, "
+                "options_json, created, updated) SELECT ?, kind, ?, scenario_toml, scenario_name, scenario_file, "
+                "form_json, options_json, ?, ? FROM plans WHERE id = ?", (copy_id, label, stamp, stamp, plan_id))
             connection.execute(
                 "INSERT INTO results (plan_id, document_json, ics, report_html, chart_svg, planned, calendars_json) "
                 "SELECT ?, document_json, ics, report_html, chart_svg, planned, calendars_json FROM results "
@@ -252,8 +250,8 @@ class PlanStore:
 
 
 def _saved(row: sqlite3.Row) -> SavedPlan:
-    return SavedPlan(row["id"], row["kind"], row["label"], row["scenario_toml"],
-                     None if row["form_json"] is None else json.loads(row["form_json"]),
+    return SavedPlan(row["id"], row["kind"], row["label"], row["scenario_toml"], row["scenario_name"],
+                     row["scenario_file"], None if row["form_json"] is None else json.loads(row["form_json"]),
                      json.loads(row["options_json"]), row["created"], row["updated"],
                      None if row["document_json"] is None else json.loads(row["document_json"]),
                      None if row["calendars_json"] is None else json.loads(row["calendars_json"]),
