@@ -21,6 +21,7 @@ import openpyxl
 import pytest
 import vobject
 from conftest import lisbon_trip_toml, memoised_searches
+from test_caldav import PASSWORD, USER, collection, radicale, stored_events  # noqa: F401  (Radicale fixtures)
 from typer.testing import CliRunner
 
 import planner.service
@@ -215,6 +216,21 @@ def test_duplicate_then_delete_removes_scenario_and_result(client, data, trip_pl
     with sqlite3.connect(data / DATABASE_NAME) as connection:
         assert connection.execute("SELECT COUNT(*) FROM results WHERE plan_id = ?", (copy,)).fetchone()[0] == 0
     assert client.get(f"/plans/{copy}").status_code == 404
+
+
+def test_publish_to_caldav(client, trip_plan, collection):  # noqa: F811
+    # the plan's calendar published to a CalDAV server (Radicale, RFC 4791) holds the downloaded events;
+    # publishing again changes nothing there
+    plan_id = trip_plan["plan_id"]
+    uids = {e.uid.value for e in ics_events(client.get(f"/plans/{plan_id}/calendar.ics").text)}
+    form = {"csrf": csrf(client), "url": collection, "user": USER, "password": PASSWORD}
+    first = client.post(f"/plans/{plan_id}/publish", data=form)
+    assert first.status_code == 200 and f"{len(uids)} created" in first.text
+    assert set(stored_events(collection)) == uids
+    again = client.post(f"/plans/{plan_id}/publish", data=form)
+    assert f"0 created, 0 updated, {len(uids)} unchanged, 0 deleted" in again.text
+    refused = client.post(f"/plans/{plan_id}/publish", data={**form, "password": "wrong"})
+    assert refused.status_code == 422 and "Not published" in refused.text
 
 
 # ---------------------------------------------------------------------- bad input: a clear message, nothing stored

@@ -287,6 +287,8 @@ async def scenario_submit(request: Request):
     if not problems:
         checked = await run_in_threadpool(check_scenario, text, "scenario.toml")
         problems = checked if isinstance(checked, list) else []
+        if not problems and checked.kind != plan.kind:
+            problems = [f"scenario.toml: kind: this plan is a {plan.kind}; a {checked.kind} scenario is a new plan"]
     if problems:
         return desk.page(request, "scenario.html", 422, problems=problems, plan_id=plan.id, text=text, options=options)
     job = desk.jobs.submit(Submission(plan.kind, forms.scenario_label(text) or plan.label, text, "scenario.toml",
@@ -328,7 +330,7 @@ async def plan_publish(request: Request):
         raise _Refused(502, "Not published", [f"publish: {exc}"]) from None
     summary = (f"{len(result.created)} created, {len(result.updated)} updated, {len(result.unchanged)} unchanged, "
                f"{len(result.deleted)} deleted")
-    return desk.page(request, "message.html", title="Published", lines=[f"{result.collection}: {summary}"],
+    return desk.page(request, "message.html", title="Published", lines=[f"{result.url}: {summary}; {result.others} other events left alone"],
                      back=f"/plans/{plan.id}")
 
 

@@ -150,7 +150,9 @@ def trip_toml(values: dict[str, str]) -> tuple[str, list[str]]:
 
 def planning_options(values: Mapping[str, str], problems: list[str]) -> dict[str, Any]:
     """Strategy, population size, seed and robust search from a form (trip or roster)."""
-    options: dict[str, Any] = {"strategy": values.get("strategy") or "auto", "robust": bool(values.get("robust"))}
+    robust = str(values.get("robust") or "").strip().lower()
+    options: dict[str, Any] = {"strategy": values.get("strategy") or "auto",
+                               "robust": robust not in ("", "0", "false", "no", "off")}
     for name in ("people", "seed"):
         text = str(values.get(name) or "0").strip()
         try:
