@@ -128,6 +128,16 @@ def test_user_strings_are_escaped(client, trip_plan):
         assert "&lt;script&gt;alert(1)&lt;/script&gt;" in text
 
 
+def test_pages_fetch_nothing_from_elsewhere(client, trip_plan):
+    # nothing leaves the machine: every script, style and image is served from here (CSP, W3C Level 3)
+    for path in ("/", "/trip", "/roster", f"/plans/{trip_plan['plan_id']}", f"/plans/{trip_plan['plan_id']}/report.html"):
+        answer = client.get(path)
+        assert not re.search(r'(?:src|action)="(?:https?:)?//|<link[^>]+href="(?:https?:)?//', answer.text), path
+        assert "default-src 'self'" in answer.headers["content-security-policy"]
+    for static in ("/static/desk.css", "/static/progress.js", "/static/places.js"):
+        assert client.get(static).status_code == 200
+
+
 def test_calendar_download_parses_and_matches_the_agenda(client, trip_plan):
     # the .ics parses with vobject and holds the bright-light windows the day agenda shows (RFC 5545)
     answer = client.get(f"/plans/{trip_plan['plan_id']}/calendar.ics")
