@@ -1,12 +1,13 @@
 """Rosters from spreadsheets: the demo roster as .xlsx and .csv ranks as its TOML file; the template plans once filled.
 
-The workbooks and CSV files are written here with openpyxl and the csv module straight from the demo's
-TOML (read with tomllib), following the layout the README documents, not with the planner's own code.
+The workbooks and CSV files are written by tools/make_roster_sheets.py with openpyxl and the csv module
+straight from the demo's TOML (read with tomllib), following the layout the README documents, not with the
+planner's own code.
 """
 
 from __future__ import annotations
 
-import csv
+import importlib.util
 import tomllib
 from datetime import date, datetime, time, timedelta
 from pathlib import Path
@@ -28,37 +29,12 @@ REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "scenarios" / "harbour-cranes.toml"
 
 
-def _settings_rows(data: dict) -> list[list]:
-    """The demo's settings, shift table and habits as sheet rows (labels as the README lists them)."""
-    site, workers = data["site"], data["workers"]
-    rows = [["# settings of the invented harbour crew"],
-            ["name", data["name"]], ["description", data["description"]], ["model", data["model"]],
-            ["site", site["name"]], ["time zone", site["time_zone"]], ["latitude", site["latitude"]],
-            ["longitude", site["longitude"]], ["crew size", workers["count"]], ["bed", workers["sleep"]["bed"]],
-            ["wake", workers["sleep"]["wake"]], ["sleep hours", workers["sleep_hours"]],
-            ["commute minutes", workers["commute_minutes"]]]
-    rows += [[key.replace("_", " "), value] for key, value in data["light"].items()]
-    rows += [[key.replace("_", " "), ("yes" if value else "no") if isinstance(value, bool) else value]
-             for key, value in data["countermeasures"].items()]
-    rows += [[], ["shift", "start", "end", "label", "sleep bed", "sleep wake"]]
-    for code, shift in data["shifts"].items():
-        sleep = shift.get("sleep", {})
-        rows.append([code, shift["start"], shift["end"], shift.get("label", ""), sleep.get("bed"), sleep.get("wake")])
-    return rows
-
-
-def _grid_rows(data: dict, draft: dict, as_dates: bool) -> list[list]:
-    """One row per crew, its rotated pattern under consecutive dates (an empty cell for a day off)."""
-    start = date.fromisoformat(data["start_date"])
-    days = len(draft["pattern"]) * draft["cycles"]
-    header = ["crew"] + [(start + timedelta(days=d)) if as_dates else (start + timedelta(days=d)).isoformat()
-                         for d in range(days)]
-    rows = [header]
-    for crew in data["crews"]:
-        k = crew["offset_days"] % len(draft["pattern"])
-        rotated = (draft["pattern"][k:] + draft["pattern"][:k]) * draft["cycles"]
-        rows.append([crew["name"]] + [None if code == "off" else code for code in rotated])
-    return rows
+def _tool():
+    """tools/make_roster_sheets.py, which writes the layout with openpyxl and csv (not with the planner's code)."""
+    spec = importlib.util.spec_from_file_location("make_roster_sheets", REPO / "tools" / "make_roster_sheets.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
 
 
 @pytest.fixture(scope="module")
@@ -69,26 +45,10 @@ def demo_data() -> dict:
 @pytest.fixture(scope="module")
 def demo_files(tmp_path_factory, demo_data):
     folder = tmp_path_factory.mktemp("sheets")
-    book = openpyxl.Workbook()
-    settings = book.active
-    settings.title = "settings"
-    for row in _settings_rows(demo_data):
-        settings.append(row)
-    for draft in demo_data["drafts"]:
-        sheet = book.create_sheet(draft["name"])
-        for row in _grid_rows(demo_data, draft, as_dates=True):
-            sheet.append(row)
-    book.save(folder / "harbour.xlsx")
-    csv_files = []
-    for k, draft in enumerate(demo_data["drafts"]):
-        path = folder / f"{draft['name'].split()[0]}.csv"
-        with path.open("w", newline="", encoding="utf-8") as stream:
-            writer = csv.writer(stream, delimiter=";" if k else ",")   # both separators spreadsheets write
-            if k == 0:   # the settings once; the second file uses them
-                writer.writerows(_settings_rows(demo_data) + [[]])
-            writer.writerows(_grid_rows(demo_data, draft, as_dates=False))
-        csv_files.append(path)
-    return folder / "harbour.xlsx", csv_files
+    tool = _tool()
+    workbook = tool.write_workbook(demo_data, folder / "harbour.xlsx")
+    # both separators spreadsheet programs write: "," in the first file, ";" in the second
+    return workbook, tool.write_csv_files(demo_data, folder, "harbour", delimiters=(",", ";"))
 
 
 def _ranking(roster) -> list[tuple[tuple, str, float]]:
@@ -112,6 +72,17 @@ def test_demo_roster_as_xlsx_and_csv_ranks_as_the_toml(demo_files):
     expected = _ranking(from_toml)
     assert _ranking(from_xlsx) == expected
     assert _ranking(from_csv) == expected
+
+
+def test_shipped_demo_sheets_are_the_demo_roster():
+    # scenarios/harbour-cranes.xlsx and its CSV files (tools/make_roster_sheets.py) say what the TOML says
+    from_toml, _ = load_roster(DEMO)
+    for paths in ([REPO / "scenarios" / "harbour-cranes.xlsx"],
+                  [REPO / "scenarios" / "harbour-cranes-fast.csv", REPO / "scenarios" / "harbour-cranes-slow.csv"]):
+        sheets, _ = load_roster_sheets(paths)
+        assert (sheets.site, sheets.shifts, sheets.crews, sheets.start) == (from_toml.site, from_toml.shifts,
+                                                                            from_toml.crews, from_toml.start)
+        assert [(d.pattern, d.cycles) for d in sheets.drafts] == [(d.pattern, d.cycles) for d in from_toml.drafts]
 
 
 def test_template_opens_in_openpyxl_and_plans_once_filled(tmp_path):
