@@ -124,26 +124,30 @@ def _empty(value: Any) -> bool:
     return value is None or (isinstance(value, str) and not value.strip())
 
 
+def _file_problem(path: Path, message: str) -> InputFileError:
+    return InputFileError([Problem(str(path), "", message)])
+
+
 def read_sheets(path: str | Path) -> list[Sheet]:
     """Every sheet of an ``.xlsx`` workbook, or a ``.csv`` file as one sheet named after the file.
 
     Raises
     ------
-    InputError
-        For a missing or unreadable file or another file type.
+    InputFileError
+        For a missing or unreadable file or another file type (one problem naming the file).
     """
     path = Path(path)
     suffix = path.suffix.lower()
     if suffix not in SHEET_SUFFIXES:
-        raise InputError(f"not a spreadsheet; rosters are read from {', '.join(SHEET_SUFFIXES)} (or a .toml "
-                         "roster file)", source=str(path))
+        raise _file_problem(path, f"not a spreadsheet; rosters are read from {', '.join(SHEET_SUFFIXES)} (or a "
+                                  ".toml roster file)")
     if not path.is_file():
-        raise InputError("file not found", source=str(path))
+        raise _file_problem(path, "file not found")
     if suffix == ".csv":
         try:
             text = path.read_text(encoding="utf-8-sig")
         except (OSError, UnicodeDecodeError) as exc:
-            raise InputError(f"cannot read the file ({exc}); save it as UTF-8 CSV", source=str(path)) from None
+            raise _file_problem(path, f"cannot read the file ({exc}); save it as UTF-8 CSV") from None
         try:   # spreadsheet programs in many locales write ";" between cells
             dialect = csv.Sniffer().sniff(text[:4096], delimiters=",;\t")
         except csv.Error:
@@ -155,7 +159,7 @@ def read_sheets(path: str | Path) -> list[Sheet]:
     try:
         book = openpyxl.load_workbook(path, read_only=True, data_only=True)
     except Exception as exc:   # openpyxl raises many kinds for a damaged or foreign file
-        raise InputError(f"cannot read the workbook ({exc.__class__.__name__}: {exc})", source=str(path)) from None
+        raise _file_problem(path, f"cannot read the workbook ({exc.__class__.__name__}: {exc})") from None
     try:
         return [Sheet(path, ws.title, [list(row) for row in ws.iter_rows(values_only=True)]) for ws in book.worksheets]
     finally:
