@@ -18,6 +18,7 @@ from typer.testing import CliRunner
 
 from planner.cli import app
 from planner.engine.parameters import load_model
+from planner.rosters.model import crew_draft
 from planner.rosters.scenario import load_roster
 from planner.rosters.search import plan_roster
 from planner.rosters.sheet import load_roster_sheets, sheet_ref, shortest_period, template_workbook
@@ -186,3 +187,41 @@ def test_shortest_period_and_sheet_refs():
     assert sheet_ref("fast 2-2-4", 3, 5) == "'fast 2-2-4'!E3"
     assert sheet_ref("settings", 7, 27) == "settings!AA7"
     assert PLACE_FIELDS == ("time_zone", "latitude", "longitude")
+
+
+def test_crews_staggered_otherwise_on_another_draft(demo_files, demo_data, tmp_path):
+    workbook, _ = demo_files
+    tool = _tool()
+    slow = demo_data["drafts"][1]
+    # The slow 16-day rotation staggered 4 days apart (A 0, B 4, C 8, D 12) while the fast one keeps 0, 2, 4, 6.
+    staggered = {**demo_data, "crews": [{"name": c["name"], "offset_days": 2 * c["offset_days"]}
+                                        for c in demo_data["crews"]]}
+    book = openpyxl.load_workbook(workbook)
+    sheet = book[slow["name"]]
+    for r, row in enumerate(tool.grid_rows(staggered, slow, as_dates=True), start=1):
+        for c, value in enumerate(row, start=1):
+            sheet.cell(row=r, column=c).value = value   # cell(value=None) would leave the old value
+    path = tmp_path / "staggered.xlsx"
+    book.save(path)
+    roster, _ = load_roster_sheets(path)
+    fast_draft, slow_draft = roster.drafts
+    assert [c.offset_in(fast_draft) for c in roster.crews] == [0, 2, 4, 6]
+    assert [c.offset_in(slow_draft) for c in roster.crews] == [0, 4, 8, 12]
+    # Each crew's calendar rotation is its own row of the sheet (the rows written above).
+    b_row = tool.grid_rows(staggered, slow, as_dates=True)[2][1:]
+    assert list(crew_draft(slow_draft, roster.crews[1]).codes()) == b_row
+    # The same crews written in a roster file with draft_offsets build the same roster.
+    text = DEMO.read_text(encoding="utf-8")
+    for name, offset in (("B", 4), ("C", 8), ("D", 12)):
+        text = text.replace(f'name = "{name}"\n', f'name = "{name}"\ndraft_offsets = {{ "slow 4-4-4-4" = {offset} }}\n')
+    toml_path = tmp_path / "staggered.toml"
+    toml_path.write_text(text, encoding="utf-8")
+    assert load_roster(toml_path)[0].crews == roster.crews
+
+
+def test_draft_offsets_must_name_a_draft(tmp_path):
+    text = DEMO.read_text(encoding="utf-8").replace('name = "B"\n', 'name = "B"\ndraft_offsets = { "weekly" = 3 }\n')
+    path = tmp_path / "roster.toml"
+    path.write_text(text, encoding="utf-8")
+    line = assert_one_line_error(CliRunner().invoke(app, ["check", str(path)]))
+    assert 'crews.1.draft_offsets: no draft named "weekly"; allowed: "fast 2-2-4", "slow 4-4-4-4"' in line
