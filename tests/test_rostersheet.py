@@ -1,12 +1,13 @@
 """Rosters from spreadsheets: the demo roster as .xlsx and .csv ranks as its TOML file; the template plans once filled.
 
-The workbooks and CSV files are written here with openpyxl and the csv module straight from the demo's
-TOML (read with tomllib), following the layout the README documents, not with the planner's own code.
+The workbooks and CSV files are written by tools/make_roster_sheets.py with openpyxl and the csv module
+straight from the demo's TOML (read with tomllib), following the layout the README documents, not with the
+planner's own code.
 """
 
 from __future__ import annotations
 
-import csv
+import importlib.util
 import tomllib
 from datetime import date, datetime, time, timedelta
 from pathlib import Path
@@ -17,6 +18,7 @@ from typer.testing import CliRunner
 
 from planner.cli import app
 from planner.engine.parameters import load_model
+from planner.rosters.model import crew_draft
 from planner.rosters.scenario import load_roster
 from planner.rosters.search import plan_roster
 from planner.rosters.sheet import load_roster_sheets, sheet_ref, shortest_period, template_workbook
@@ -28,37 +30,12 @@ REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "scenarios" / "harbour-cranes.toml"
 
 
-def _settings_rows(data: dict) -> list[list]:
-    """The demo's settings, shift table and habits as sheet rows (labels as the README lists them)."""
-    site, workers = data["site"], data["workers"]
-    rows = [["# settings of the invented harbour crew"],
-            ["name", data["name"]], ["description", data["description"]], ["model", data["model"]],
-            ["site", site["name"]], ["time zone", site["time_zone"]], ["latitude", site["latitude"]],
-            ["longitude", site["longitude"]], ["crew size", workers["count"]], ["bed", workers["sleep"]["bed"]],
-            ["wake", workers["sleep"]["wake"]], ["sleep hours", workers["sleep_hours"]],
-            ["commute minutes", workers["commute_minutes"]]]
-    rows += [[key.replace("_", " "), value] for key, value in data["light"].items()]
-    rows += [[key.replace("_", " "), ("yes" if value else "no") if isinstance(value, bool) else value]
-             for key, value in data["countermeasures"].items()]
-    rows += [[], ["shift", "start", "end", "label", "sleep bed", "sleep wake"]]
-    for code, shift in data["shifts"].items():
-        sleep = shift.get("sleep", {})
-        rows.append([code, shift["start"], shift["end"], shift.get("label", ""), sleep.get("bed"), sleep.get("wake")])
-    return rows
-
-
-def _grid_rows(data: dict, draft: dict, as_dates: bool) -> list[list]:
-    """One row per crew, its rotated pattern under consecutive dates (an empty cell for a day off)."""
-    start = date.fromisoformat(data["start_date"])
-    days = len(draft["pattern"]) * draft["cycles"]
-    header = ["crew"] + [(start + timedelta(days=d)) if as_dates else (start + timedelta(days=d)).isoformat()
-                         for d in range(days)]
-    rows = [header]
-    for crew in data["crews"]:
-        k = crew["offset_days"] % len(draft["pattern"])
-        rotated = (draft["pattern"][k:] + draft["pattern"][:k]) * draft["cycles"]
-        rows.append([crew["name"]] + [None if code == "off" else code for code in rotated])
-    return rows
+def _tool():
+    """tools/make_roster_sheets.py, which writes the layout with openpyxl and csv (not with the planner's code)."""
+    spec = importlib.util.spec_from_file_location("make_roster_sheets", REPO / "tools" / "make_roster_sheets.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
 
 
 @pytest.fixture(scope="module")
@@ -69,26 +46,10 @@ def demo_data() -> dict:
 @pytest.fixture(scope="module")
 def demo_files(tmp_path_factory, demo_data):
     folder = tmp_path_factory.mktemp("sheets")
-    book = openpyxl.Workbook()
-    settings = book.active
-    settings.title = "settings"
-    for row in _settings_rows(demo_data):
-        settings.append(row)
-    for draft in demo_data["drafts"]:
-        sheet = book.create_sheet(draft["name"])
-        for row in _grid_rows(demo_data, draft, as_dates=True):
-            sheet.append(row)
-    book.save(folder / "harbour.xlsx")
-    csv_files = []
-    for k, draft in enumerate(demo_data["drafts"]):
-        path = folder / f"{draft['name'].split()[0]}.csv"
-        with path.open("w", newline="", encoding="utf-8") as stream:
-            writer = csv.writer(stream, delimiter=";" if k else ",")   # both separators spreadsheets write
-            if k == 0:   # the settings once; the second file uses them
-                writer.writerows(_settings_rows(demo_data) + [[]])
-            writer.writerows(_grid_rows(demo_data, draft, as_dates=False))
-        csv_files.append(path)
-    return folder / "harbour.xlsx", csv_files
+    tool = _tool()
+    workbook = tool.write_workbook(demo_data, folder / "harbour.xlsx")
+    # both separators spreadsheet programs write: "," in the first file, ";" in the second
+    return workbook, tool.write_csv_files(demo_data, folder, "harbour", delimiters=(",", ";"))
 
 
 def _ranking(roster) -> list[tuple[tuple, str, float]]:
@@ -112,6 +73,17 @@ def test_demo_roster_as_xlsx_and_csv_ranks_as_the_toml(demo_files):
     expected = _ranking(from_toml)
     assert _ranking(from_xlsx) == expected
     assert _ranking(from_csv) == expected
+
+
+def test_shipped_demo_sheets_are_the_demo_roster():
+    # scenarios/harbour-cranes.xlsx and its CSV files (tools/make_roster_sheets.py) say what the TOML says
+    from_toml, _ = load_roster(DEMO)
+    for paths in ([REPO / "scenarios" / "harbour-cranes.xlsx"],
+                  [REPO / "scenarios" / "harbour-cranes-fast.csv", REPO / "scenarios" / "harbour-cranes-slow.csv"]):
+        sheets, _ = load_roster_sheets(paths)
+        assert (sheets.site, sheets.shifts, sheets.crews, sheets.start) == (from_toml.site, from_toml.shifts,
+                                                                            from_toml.crews, from_toml.start)
+        assert [(d.pattern, d.cycles) for d in sheets.drafts] == [(d.pattern, d.cycles) for d in from_toml.drafts]
 
 
 def test_template_opens_in_openpyxl_and_plans_once_filled(tmp_path):
@@ -215,3 +187,41 @@ def test_shortest_period_and_sheet_refs():
     assert sheet_ref("fast 2-2-4", 3, 5) == "'fast 2-2-4'!E3"
     assert sheet_ref("settings", 7, 27) == "settings!AA7"
     assert PLACE_FIELDS == ("time_zone", "latitude", "longitude")
+
+
+def test_crews_staggered_otherwise_on_another_draft(demo_files, demo_data, tmp_path):
+    workbook, _ = demo_files
+    tool = _tool()
+    slow = demo_data["drafts"][1]
+    # The slow 16-day rotation staggered 4 days apart (A 0, B 4, C 8, D 12) while the fast one keeps 0, 2, 4, 6.
+    staggered = {**demo_data, "crews": [{"name": c["name"], "offset_days": 2 * c["offset_days"]}
+                                        for c in demo_data["crews"]]}
+    book = openpyxl.load_workbook(workbook)
+    sheet = book[slow["name"]]
+    for r, row in enumerate(tool.grid_rows(staggered, slow, as_dates=True), start=1):
+        for c, value in enumerate(row, start=1):
+            sheet.cell(row=r, column=c).value = value   # cell(value=None) would leave the old value
+    path = tmp_path / "staggered.xlsx"
+    book.save(path)
+    roster, _ = load_roster_sheets(path)
+    fast_draft, slow_draft = roster.drafts
+    assert [c.offset_in(fast_draft) for c in roster.crews] == [0, 2, 4, 6]
+    assert [c.offset_in(slow_draft) for c in roster.crews] == [0, 4, 8, 12]
+    # Each crew's calendar rotation is its own row of the sheet (the rows written above).
+    b_row = tool.grid_rows(staggered, slow, as_dates=True)[2][1:]
+    assert list(crew_draft(slow_draft, roster.crews[1]).codes()) == b_row
+    # The same crews written in a roster file with draft_offsets build the same roster.
+    text = DEMO.read_text(encoding="utf-8")
+    for name, offset in (("B", 4), ("C", 8), ("D", 12)):
+        text = text.replace(f'name = "{name}"\n', f'name = "{name}"\ndraft_offsets = {{ "slow 4-4-4-4" = {offset} }}\n')
+    toml_path = tmp_path / "staggered.toml"
+    toml_path.write_text(text, encoding="utf-8")
+    assert load_roster(toml_path)[0].crews == roster.crews
+
+
+def test_draft_offsets_must_name_a_draft(tmp_path):
+    text = DEMO.read_text(encoding="utf-8").replace('name = "B"\n', 'name = "B"\ndraft_offsets = { "weekly" = 3 }\n')
+    path = tmp_path / "roster.toml"
+    path.write_text(text, encoding="utf-8")
+    line = assert_one_line_error(CliRunner().invoke(app, ["check", str(path)]))
+    assert 'crews.1.draft_offsets: no draft named "weekly"; allowed: "fast 2-2-4", "slow 4-4-4-4"' in line

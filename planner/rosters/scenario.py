@@ -60,6 +60,7 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     [[crews]]
     name = "B"
     offset_days = 2
+    draft_offsets = { "2 days, 2 nights, 4 off" = 3 }   # optional: another offset on a named draft
 """
 
 from __future__ import annotations
@@ -67,7 +68,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
-from typing import Literal
+from typing import Annotated, Literal
 
 from pydantic import Field, field_validator
 
@@ -136,6 +137,7 @@ class CountermeasuresEntry(StrictEntry):
 class CrewEntry(StrictEntry):
     name: str = Field(min_length=1, max_length=40)
     offset_days: int = Field(0, ge=0, le=365)
+    draft_offsets: dict[str, Annotated[int, Field(ge=0, le=365)]] = Field(default_factory=dict)
 
 
 class DraftEntry(StrictEntry):
@@ -270,6 +272,10 @@ def build_roster(spec: RosterFile, problems, path: Path) -> tuple[Roster, Roster
         if entry.name in crew_names:
             problems.add(("crews", k, "name"), f'"{entry.name}" is used by another crew; each crew needs its own name')
         crew_names.add(entry.name)
+        for draft_name in entry.draft_offsets:
+            if draft_name not in names:
+                problems.add(("crews", k, "draft_offsets"), f'no draft named "{draft_name}"; allowed: '
+                                                            + ", ".join(f'"{d.name}"' for d in drafts))
     problems.raise_if_any()
     sleep = spec.workers.sleep
     site = Place(spec.site.name, zone(spec.site.time_zone), float(spec.site.latitude), float(spec.site.longitude),
@@ -284,5 +290,5 @@ def build_roster(spec: RosterFile, problems, path: Path) -> tuple[Roster, Roster
                     commute_minutes=spec.workers.commute_minutes, sleep_hours=spec.workers.sleep_hours,
                     work_lux=light.work_lux, indoor_lux=light.indoor_lux, daylight_lux=light.daylight_lux,
                     night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count,
-                    crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews))
+                    crews=tuple(Crew(c.name, c.offset_days, tuple(c.draft_offsets.items())) for c in spec.crews))
     return roster, RosterInfo(spec.name, spec.description, model, str(path))

@@ -29,8 +29,8 @@ given twice must agree.
 
 A grid's first row is the draft's rotation: its shortest repeating pattern (e.g. 8 days × 3 cycles).
 Every other row is a crew working the same rotation from another day of it; its offset is found
-from its cells (all sheets must list the same crews at the same offsets, as a roster file's
-``[[crews]]`` hold for every draft).  All grids start on the same date.
+from its cells (all sheets list the same crews; a crew staggered otherwise on a later sheet gets that
+draft's offset, as a roster file's ``[[crews]]`` ``draft_offsets``).  All grids start on the same date.
 """
 
 from __future__ import annotations
@@ -124,26 +124,30 @@ def _empty(value: Any) -> bool:
     return value is None or (isinstance(value, str) and not value.strip())
 
 
+def _file_problem(path: Path, message: str) -> InputFileError:
+    return InputFileError([Problem(str(path), "", message)])
+
+
 def read_sheets(path: str | Path) -> list[Sheet]:
     """Every sheet of an ``.xlsx`` workbook, or a ``.csv`` file as one sheet named after the file.
 
     Raises
     ------
-    InputError
-        For a missing or unreadable file or another file type.
+    InputFileError
+        For a missing or unreadable file or another file type (one problem naming the file).
     """
     path = Path(path)
     suffix = path.suffix.lower()
     if suffix not in SHEET_SUFFIXES:
-        raise InputError(f"not a spreadsheet; rosters are read from {', '.join(SHEET_SUFFIXES)} (or a .toml "
-                         "roster file)", source=str(path))
+        raise _file_problem(path, f"not a spreadsheet; rosters are read from {', '.join(SHEET_SUFFIXES)} (or a "
+                                  ".toml roster file)")
     if not path.is_file():
-        raise InputError("file not found", source=str(path))
+        raise _file_problem(path, "file not found")
     if suffix == ".csv":
         try:
             text = path.read_text(encoding="utf-8-sig")
         except (OSError, UnicodeDecodeError) as exc:
-            raise InputError(f"cannot read the file ({exc}); save it as UTF-8 CSV", source=str(path)) from None
+            raise _file_problem(path, f"cannot read the file ({exc}); save it as UTF-8 CSV") from None
         try:   # spreadsheet programs in many locales write ";" between cells
             dialect = csv.Sniffer().sniff(text[:4096], delimiters=",;\t")
         except csv.Error:
@@ -155,7 +159,7 @@ def read_sheets(path: str | Path) -> list[Sheet]:
     try:
         book = openpyxl.load_workbook(path, read_only=True, data_only=True)
     except Exception as exc:   # openpyxl raises many kinds for a damaged or foreign file
-        raise InputError(f"cannot read the workbook ({exc.__class__.__name__}: {exc})", source=str(path)) from None
+        raise _file_problem(path, f"cannot read the workbook ({exc.__class__.__name__}: {exc})") from None
     try:
         return [Sheet(path, ws.title, [list(row) for row in ws.iter_rows(values_only=True)]) for ws in book.worksheets]
     finally:
@@ -411,6 +415,7 @@ def _grids_to_drafts(reading: _Reading, names: list[str]) -> None:
     codes = set(reading.data.get("shifts", {}))
     allowed = ", ".join(f'"{c}"' for c in sorted(codes)) + f', "{OFF}" or an empty cell (a day off)'
     drafts, crews_seen = [], {}
+    draft_offsets: dict[str, dict[str, int]] = {}   # crew -> draft name -> offset, where not the first draft's
     start: tuple[date, Sheet, int] | None = None
     for k, ((sheet, header, dates, crews), name) in enumerate(zip(reading.grids, names)):
         if start is None:
@@ -452,10 +457,8 @@ def _grids_to_drafts(reading: _Reading, names: list[str]) -> None:
             if crew not in crews_seen:
                 reading.problem(sheet, row, 1, f'crew "{crew}" is not on the first draft\'s sheet; every draft lists '
                                                "the same crews")
-            elif crews_seen[crew][0] % period != offset:
-                reading.problem(sheet, row, 1, f'crew "{crew}" starts {offset} days into this rotation but '
-                                               f"{crews_seen[crew][0]} days into the first draft's; a crew keeps its "
-                                               "offset on every draft")
+            elif crews_seen[crew][0] % period != offset:   # staggered otherwise on this draft
+                draft_offsets.setdefault(crew, {})[name] = offset
         for crew, (_, first_sheet, row) in crews_seen.items():
             if crew not in offsets:
                 reading.problem(sheet, header, 1, f'crew "{crew}" ({sheet_ref(first_sheet.name, row, 1)}) has no row '
@@ -463,7 +466,8 @@ def _grids_to_drafts(reading: _Reading, names: list[str]) -> None:
     reading.data["drafts"] = drafts
     reading.data["start_date"] = start[0] if start else None
     if len(crews_seen) > 1:
-        reading.data["crews"] = [{"name": crew, "offset_days": offset} for crew, (offset, _, _) in crews_seen.items()]
+        reading.data["crews"] = [{"name": crew, "offset_days": offset, "draft_offsets": draft_offsets.get(crew, {})}
+                                 for crew, (offset, _, _) in crews_seen.items()]
         for k, (crew, (_, sheet, row)) in enumerate(crews_seen.items()):
             reading.cells[("crews", k)] = (sheet, row, 1)
             reading.cells[("crews", k, "name")] = (sheet, row, 1)
