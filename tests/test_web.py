@@ -174,6 +174,36 @@ def test_job_progress_page(client, trip_plan):
     assert answer.status_code == 303 and answer.headers["location"] == f"/plans/{trip_plan['plan_id']}"
 
 
+def test_progress_is_shown_while_planning(client, data, monkeypatch):
+    # the waiting page shows the worker's step and count while the plan is made, and a plan that fails says why
+    # with nothing stored (issue: long work in a worker, progress shown)
+    import planner.web.jobs
+
+    release = threading.Event()
+
+    def slow(kind, text, name, options, progress=None):
+        progress("simulated people", 3, 10)
+        release.wait(60)
+        raise InputError("stopped by the test", field="person")
+
+    monkeypatch.setattr(planner.web.jobs, "plan_document", slow)
+    before = counts(data)
+    answer = client.post("/trip", data={**FORM, "label": "slow one", "csrf": csrf(client)}, follow_redirects=False)
+    location = answer.headers["location"]
+    for _ in range(100):
+        if client.get(location + ".json").json()["done"] == 3:
+            break
+        time.sleep(0.1)
+    page = client.get(location)
+    assert page.status_code == 200 and "simulated people" in page.text and "3 of 10" in page.text
+    assert 'value="3" max="10"' in page.text
+    release.set()
+    assert wait_for(client, location)["state"] == "failed"
+    failed = client.get(location)
+    assert failed.status_code == 422 and "person: stopped by the test" in failed.text
+    assert counts(data) == before
+
+
 # ---------------------------------------------------------------------- saved plans
 
 def test_saved_plans_survive_a_restart(data, trip_plan, client):
