@@ -35,7 +35,7 @@ from planner import service
 from planner._version import __version__
 from planner.errors import InputError
 from planner.web import forms
-from planner.web.jobs import STRATEGIES, Checked, JobRunner, Submission, check_scenario, option_problems
+from planner.web.jobs import Checked, JobRunner, Submission, check_scenario, option_problems
 from planner.web.security import DEFAULT_UPLOAD_LIMIT, SESSION_COOKIE, FormTokens, Guard
 from planner.web.store import PlanStore
 
