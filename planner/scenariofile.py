@@ -16,6 +16,7 @@ from planner import tomlfile
 from planner.engine.parameters import available_models
 from planner.errors import InputError
 from planner.tomlfile import InputFileError, Problem
+from planner.world.gazetteer import resolve_place
 from planner.world.localtime import parse_clock, zone
 from planner.world.places import Place
 
@@ -74,17 +75,46 @@ class SleepEntry(StrictEntry):
         return round((self.wake_h - self.bed_h) % 24.0, 6)
 
 
+#: The fields a place table needs when it gives no ``place`` name to look up.
+PLACE_FIELDS = ("time_zone", "latitude", "longitude")
+
+
 class PlaceEntry(StrictEntry):
-    name: str = Field(min_length=1, max_length=80)
-    time_zone: str
-    latitude: float = Field(ge=-90.0, le=90.0, allow_inf_nan=False)
-    longitude: float = Field(ge=-180.0, le=180.0, allow_inf_nan=False)
+    """A place: ``place = "Tokyo"`` (looked up in :mod:`planner.world.gazetteer`), or ``name``, ``time_zone``,
+    ``latitude`` and ``longitude``.  With ``place``, ``name`` is optional (default: the place's own name)."""
+
+    name: str | None = Field(None, min_length=1, max_length=80)
+    place: str | None = Field(None, min_length=1, max_length=120)
+    time_zone: str | None = None
+    latitude: float | None = Field(None, ge=-90.0, le=90.0, allow_inf_nan=False)
+    longitude: float | None = Field(None, ge=-180.0, le=180.0, allow_inf_nan=False)
     sleep: SleepEntry | None = None
 
     @field_validator("time_zone")
     @classmethod
-    def _zone(cls, value: str) -> str:
-        return checked(zone, value).strip()
+    def _zone(cls, value: str | None) -> str | None:
+        return None if value is None else checked(zone, value).strip()
+
+    @field_validator("place")
+    @classmethod
+    def _known_place(cls, value: str | None) -> str | None:
+        return None if value is None else checked(resolve_place, value)
+
+    @model_validator(mode="after")
+    def _located(self) -> "PlaceEntry":
+        given = [name for name in PLACE_FIELDS if getattr(self, name) is not None]
+        if self.place is not None:
+            if given:
+                raise ValueError(f'place = "{self.place}" and {", ".join(given)} both say where this is; give either '
+                                 "place or name, time_zone, latitude and longitude")
+            found = resolve_place(self.place)
+            return self.model_copy(update={"name": self.name or found.name, "time_zone": found.time_zone,
+                                           "latitude": found.latitude, "longitude": found.longitude})
+        missing = [name for name in ("name",) + PLACE_FIELDS if getattr(self, name) is None]
+        if missing:
+            raise ValueError(f"required field{'s are' if len(missing) > 1 else ' is'} missing: {', '.join(missing)} "
+                             '(or give place = "City" to look the place up by name)')
+        return self
 
 
 class Problems:

@@ -9,7 +9,14 @@ none holds science. Each use case takes a validated request and returns a result
 - :func:`plan_trip` — a trip planned from its scenario file (:class:`TripOutcome`);
 - :func:`plan_roster` — the drafts of a roster planned and ranked (:class:`RosterOutcome`);
 - :func:`prc` — a phase response curve (:class:`PrcOutcome`);
-- :func:`describe_model` — a parameter set with its computed properties (:class:`ModelDescription`).
+- :func:`describe_model` — a parameter set with its computed properties (:class:`ModelDescription`);
+- :func:`plan_calendars`, :func:`plan_report`, :func:`plan_chart`, :func:`publish_calendar` — a planned
+  outcome's document as calendar files, printable report and chart, and its calendar sent to CalDAV;
+- :func:`find_places` — places by name from the offline gazetteer (:class:`PlacesOutcome`).
+
+A trip may come from a file or from a few facts (:func:`planner.trips.quick.quick_trip_scenario`, given as
+``TripRequest.quick``); a roster from a TOML file or from spreadsheets (``RosterRequest.path`` a tuple of
+``.xlsx``/``.csv`` files).
 
 Long work reports progress through an optional callback ``progress(label, done, total)``.
 Bad input raises :class:`planner.errors.InputError` (front ends: exit 2, HTTP 422), a computation
@@ -18,7 +25,8 @@ that cannot give a trustworthy result :class:`planner.errors.ComputationError`.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+import threading
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import date, timezone
 from pathlib import Path
@@ -44,12 +52,17 @@ from planner.engine.validation import (
     validate,
 )
 from planner.errors import InputError
+from planner.outputs import write_atomic
+from planner.plans.caldav import PublishResult
+from planner.plans.caldav import publish as caldav_publish
 from planner.plans.document import PlanDocument
 from planner.scenariofile import DEFAULT_MODEL
 from planner.plans.entries import citation_entry, clock, model_entry, number, pattern_entry, problem_entry
+from planner.plans.ics import DEFAULT_ALARM_MINUTES, calendar_bytes, calendars_by_group
 from planner.rosters import export as roster_export
 from planner.rosters.model import Roster
 from planner.rosters.scenario import RosterInfo, builtin_roster_paths, load_roster
+from planner.rosters.sheet import is_sheet_path, load_roster_sheets, template_workbook
 from planner.rosters.search import DraftResult, RosterEnsemble, RosterResult, roster_ensemble
 from planner.rosters.search import plan_roster as search_roster
 from planner.rosters.validation import ROSTER_CHECKS
@@ -59,6 +72,7 @@ from planner.trips import export as trip_export
 from planner.trips.document import document_from_trip
 from planner.trips.evidence import StartingPhase, person_model, starting_phase
 from planner.trips.model import Trip
+from planner.trips.quick import QuickTrip, load_quick_trip
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult, model_ensemble, population_report, robust_plan
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo, builtin_scenario_paths, demo_path, load_trip
 from planner.trips.search import TripPlanResult
@@ -67,6 +81,7 @@ from planner.trips.search import plan_trip as search_trip
 from planner.trips.views import DayView, day_views, shorter_way
 from planner.world.daylight import SKIES, DayProfile, day_profile, load_daylight_model
 from planner.world.light import DEFAULT_EXPOSURE
+from planner.world.gazetteer import NamedPlace, PlaceMatch, gazetteer_source, picking_queries, resolve_place, search_places
 from planner.world.lightlog import read_light_log
 from planner.world.localtime import zone
 
@@ -153,6 +168,8 @@ def file_kind(path: str | Path) -> FileKind:
     InputFileError
         When the file cannot be read or is not TOML.
     """
+    if is_sheet_path(path):
+        return "roster"
     data, _ = read_toml(path)
     if isinstance(data, dict) and "kind" not in data and "equations" in data:
         return "model"
@@ -186,9 +203,30 @@ def _check_trip(path: str) -> CheckReport:
     return CheckReport(path, "trip", (), trip_export.check_summary(trip, info))
 
 
+def load_any_roster(path: str | Sequence[str]) -> tuple[Roster, RosterInfo]:
+    """A roster from a TOML file, or from one or more spreadsheets (``.xlsx``, ``.csv``; each sheet a draft).
+
+    Raises
+    ------
+    InputError
+        Several files that are not all spreadsheets (a TOML roster holds its drafts itself).
+    InputFileError
+        Every problem of the file(s).
+    """
+    paths = [path] if isinstance(path, (str, Path)) else list(path)
+    if not paths:
+        raise InputError("give a roster file (.toml) or spreadsheets (.xlsx, .csv)", field="roster")
+    if all(is_sheet_path(p) for p in paths):
+        return load_roster_sheets(paths)
+    if len(paths) > 1:
+        raise InputError("several files are compared only as spreadsheets (.xlsx, .csv), each sheet a draft; "
+                         "a roster .toml file holds its drafts itself", field="roster")
+    return load_roster(paths[0])
+
+
 def _check_roster(path: str) -> CheckReport:
     try:
-        roster, info = load_roster(path)
+        roster, info = load_any_roster(path)
     except InputFileError as exc:
         return CheckReport(path, "roster", tuple(exc.problems))
     problems = _model_problems(info.model, path)
@@ -254,6 +292,9 @@ class TripRequest:
         Day after arrival by which re-entrainment counts as success.
     command : str
         Name of the front-end command, recorded in the JSON document.
+    quick : QuickTrip or None
+        A trip given by its facts instead of a file (:func:`planner.trips.quick.quick_trip_scenario`);
+        ``path`` is then ignored.
     """
 
     path: str
@@ -265,6 +306,7 @@ class TripRequest:
     models: tuple[str, ...] = ()
     by_day: int | None = None
     command: str = "trip"
+    quick: QuickTrip | None = None
 
 
 @dataclass(frozen=True)
@@ -326,7 +368,7 @@ def _population_plans(plan: TripPlanResult, robust_result: RobustResult | None) 
 
 def prepare_trip(request: TripRequest) -> tuple[Trip, ScenarioInfo, ModelSpec, StartingPhase]:
     """Load and check everything a trip plan needs before any search: the file, the model(s), the start."""
-    trip, info = load_trip(request.path)
+    trip, info = load_quick_trip(request.quick) if request.quick is not None else load_trip(request.path)
     base_model = load_checked_model(request.model or info.model)
     if request.models:
         model_names(request.models)
@@ -337,6 +379,11 @@ def prepare_trip(request: TripRequest) -> tuple[Trip, ScenarioInfo, ModelSpec, S
             raise InputError(exc.message, source=info.path, field=exc.field) from None
         raise
     return trip, info, base_model, start
+
+
+def save_trip_scenario(quick: QuickTrip, path: str | Path, *, force: bool = False) -> Path:
+    """Write a quick trip as a trip scenario file (atomically; an existing file only with ``force``)."""
+    return write_atomic(path, quick.text(), force=force)
 
 
 def plan_trip(request: TripRequest, progress: ProgressCallback | None = None, *,
@@ -379,7 +426,8 @@ class RosterRequest:
 
     Attributes
     ----------
-    path : str
+    path : str or tuple of str
+        A roster scenario file, or spreadsheets (see :func:`load_any_roster`).
     strategy : {"auto", "nights", "compromise", "day"}
     workers : int
         Simulated workers for the population spread (0: the average worker only).
@@ -396,7 +444,7 @@ class RosterRequest:
         What drafts are ranked by.
     """
 
-    path: str
+    path: str | tuple[str, ...]
     strategy: Literal["auto", "nights", "compromise", "day"] = "auto"
     workers: int = 0
     seed: int = 0
@@ -448,7 +496,7 @@ class RosterOutcome:
 
 def prepare_roster(request: RosterRequest) -> tuple[Roster, RosterInfo, ModelSpec]:
     """Load and check everything a roster plan needs before any search."""
-    roster, info = load_roster(request.path)
+    roster, info = load_any_roster(request.path)
     model = load_checked_model(request.model or info.model)
     if request.draft is not None and request.draft not in {d.name for d in roster.drafts}:
         allowed = ", ".join(f'"{d.name}"' for d in roster.drafts)
@@ -459,6 +507,13 @@ def prepare_roster(request: RosterRequest) -> tuple[Roster, RosterInfo, ModelSpe
     if request.models:
         model_names(request.models)
     return roster, info, model
+
+
+def write_roster_template(path: str | Path, start: date | None = None, *, force: bool = False) -> Path:
+    """An empty roster workbook to fill (:func:`planner.rosters.sheet.template_workbook`), written atomically."""
+    if Path(path).suffix.lower() != ".xlsx":
+        raise InputError("the template is a workbook; give a file name ending in .xlsx", field="--template")
+    return write_atomic(path, template_workbook(start), force=force)
 
 
 def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None, *,
@@ -478,6 +533,74 @@ def plan_roster(request: RosterRequest, progress: ProgressCallback | None = None
     crews = crew_plans(roster, model, result, chosen)
     return RosterOutcome(request, roster, info, model, result, chosen, roster_export.draft_views(chosen), ensemble,
                          crews)
+
+
+# --------------------------------------------------------------------------- places
+
+@dataclass(frozen=True)
+class PlacesOutcome:
+    """Places matching a name, and the one a scenario's ``place =`` (or ``--from``) would use.
+
+    Attributes
+    ----------
+    query : str
+    matches : tuple of PlaceMatch
+        Exact names, then alternate names, then names the query begins; each group largest first.
+    chosen : NamedPlace or None
+        What :func:`planner.world.gazetteer.resolve_place` gives; None when the name is ambiguous or unknown.
+    reason : str or None
+        Why nothing was chosen.
+    """
+
+    query: str
+    matches: tuple[PlaceMatch, ...]
+    chosen: NamedPlace | None
+    reason: str | None
+
+    def write(self) -> dict[int, str]:
+        """Per place (by ``geonameid``) the query that picks it among the matches."""
+        return picking_queries([m.place for m in self.matches])
+
+    def to_json(self) -> dict[str, Any]:
+        write = self.write()
+        return {"command": "places", "query": self.query, "source": gazetteer_source(),
+                "resolves_to": None if self.chosen is None else place_entry(self.chosen),
+                "unresolved_reason": self.reason,
+                "matches": [{**place_entry(m.place), "write": write[m.place.geonameid], "matched": m.matched}
+                            for m in self.matches]}
+
+
+def place_entry(place: NamedPlace) -> dict[str, Any]:
+    """A gazetteer place as JSON."""
+    return {"name": place.name, "country_code": place.country_code, "country": place.country,
+            "admin1": place.admin1, "qualified": place.qualified, "latitude": place.latitude,
+            "longitude": place.longitude, "time_zone": place.time_zone, "population": place.population,
+            "geonameid": place.geonameid}
+
+
+def find_places(query: str, limit: int = 10) -> PlacesOutcome:
+    """Places by name (see :mod:`planner.world.gazetteer`).
+
+    Raises
+    ------
+    UnknownPlaceError
+        When no place has the name or a name beginning so.
+    InputError
+        For an empty query or a qualifier that is no country or state.
+    """
+    from planner.world.gazetteer import MIN_POPULATION, UnknownPlaceError
+
+    matches = tuple(search_places(query, limit))
+    if not matches:
+        raise UnknownPlaceError(f'no place called "{query.strip()}" and none whose name begins so, in the '
+                                f"gazetteer (towns of {MIN_POPULATION:,} people or more); check the spelling or "
+                                "the country, or give latitude, longitude and time_zone instead")
+    try:
+        return PlacesOutcome(query, matches, resolve_place(query), None)
+    except InputError as exc:
+        if type(exc) is InputError:   # a bad qualifier: the query itself is wrong
+            raise
+        return PlacesOutcome(query, matches, None, exc.message)
 
 
 # --------------------------------------------------------------------------- demos
@@ -502,6 +625,50 @@ def demo(name: str | None = None) -> Demo:
     if name in rosters:
         return Demo(name, "roster", rosters[name])
     return Demo(name or DEFAULT_DEMO, "trip", demo_path(name))
+
+
+# --------------------------------------------------------------------------- plan files
+
+#: pyplot keeps global state: charts and reports are drawn one at a time when front ends plan in threads.
+_DRAWING = threading.Lock()
+
+
+def plan_calendars(document: PlanDocument, *, alarm_minutes: float | None = DEFAULT_ALARM_MINUTES,
+                   previous: Mapping[str | None, bytes] | None = None) -> dict[str | None, bytes]:
+    """The plan's iCalendar files, one per worker group (key None: the whole plan, for a plan without groups).
+
+    ``previous`` maps a group to its earlier export, whose SEQUENCE numbers are carried on (an event whose
+    content changed gets SEQUENCE + 1), as ``--ics FILE --force`` does over an existing file.
+    """
+    found = {}
+    groups = calendars_by_group(document)
+    for group, events in groups.items():
+        name = document.title if group is None else f"{document.title} — {group}"
+        found[group] = calendar_bytes(document, events, name=name, alarm_minutes=alarm_minutes,
+                                      previous=(previous or {}).get(group))
+    return found
+
+
+def plan_report(document: PlanDocument) -> str:
+    """The printable, self-contained HTML report of a plan (as ``--report``)."""
+    from planner.plans.report import report_html  # matplotlib only when asked for
+
+    with _DRAWING:
+        return report_html(document)
+
+
+def plan_chart(document: PlanDocument, fmt: Literal["svg", "png"] = "svg") -> bytes:
+    """The phase chart of a plan (as ``--chart``)."""
+    from planner.plans.report import chart_bytes  # matplotlib only when asked for
+
+    with _DRAWING:
+        return chart_bytes(document, fmt)
+
+
+def publish_calendar(data: bytes, url: str, *, user: str | None = None, password: str | None = None,
+                     source: str = "calendar") -> PublishResult:
+    """Publish a calendar written by :func:`plan_calendars` to a CalDAV collection (as ``phaseplan publish``)."""
+    return caldav_publish(data, url, user=user, password=password, source=source)
 
 
 # --------------------------------------------------------------------------- models and the PRC
@@ -621,8 +788,8 @@ def prc(model: str = "forger1999", *, hours: float = 6.7, lux: float = 10_000.0,
 __all__ = [
     "CheckReport", "Demo", "ModelDescription", "PrcOutcome", "ProgressCallback", "RosterOutcome", "RosterRequest",
     "TripOutcome", "TripRequest", "check_file", "demo", "demos", "describe_model", "file_kind", "list_models",
-    "load_checked_model", "model_names", "models_json", "plan_roster", "plan_trip", "prc", "prepare_roster",
-    "prepare_trip",
+    "load_checked_model", "model_names", "models_json", "plan_calendars", "plan_chart", "plan_report",
+    "plan_roster", "plan_trip", "prc", "prepare_roster", "prepare_trip", "publish_calendar",
 ]
 
 

@@ -9,6 +9,8 @@ no positions) and what is allowed.
 
 from __future__ import annotations
 
+import json
+import math
 import re
 import tomllib
 from dataclasses import dataclass
@@ -67,12 +69,22 @@ def read_toml(path: str | Path) -> tuple[dict[str, Any], str]:
         raise InputFileError([Problem(str(path), "", "file not found")]) from None
     except (OSError, UnicodeDecodeError) as exc:
         raise InputFileError([Problem(str(path), "", f"cannot read the file ({exc})")]) from None
+    return parse_toml(text, str(path)), text
+
+
+def parse_toml(text: str, source: str) -> dict[str, Any]:
+    """Parse TOML ``text`` read from ``source``.
+
+    Raises
+    ------
+    InputFileError
+        When the text is not valid TOML (with the line).
+    """
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         line = _decode_error_line(str(exc))
-        raise InputFileError([Problem(str(path), "", f"not valid TOML: {exc}", line)]) from None
-    return data, text
+        raise InputFileError([Problem(source, "", f"not valid TOML: {exc}", line)]) from None
 
 
 def declared_kind(path: str | Path, default: str = "trip") -> str | None:
@@ -182,7 +194,8 @@ def _find_key(lines: list[str], start: int, keys: list[str], stop: int | None = 
     return None if found is None else found + 1
 
 
-def _describe(error: dict[str, Any]) -> str:
+def describe_error(error: dict[str, Any]) -> str:
+    """A pydantic error (one item of ``ValidationError.errors()``) as what is wrong and what is allowed."""
     kind = error.get("type", "")
     if kind == "missing":
         return "required field is missing"
@@ -216,7 +229,7 @@ def validate(model: type[ModelT], data: dict[str, Any], text: str, source: str) 
         for error in exc.errors():
             location = tuple(error.get("loc", ()))
             field = ".".join(str(part) for part in location)
-            problems.append(Problem(source, field, _describe(error), locate_line(text, location)))
+            problems.append(Problem(source, field, describe_error(error), locate_line(text, location)))
         raise InputFileError(problems) from None
     if problems:
         raise InputFileError(problems)
@@ -259,6 +272,59 @@ def load(model: type[ModelT], path: str | Path) -> tuple[ModelT, str]:
 
 def load_scenario(model: type[ModelT], path: str | Path, kind: str, default: str | None = None) -> tuple[ModelT, str]:
     """Read a scenario file, refuse one of another ``kind`` (:func:`require_kind`), validate it."""
-    data, text = read_toml(path)
-    require_kind(data, text, str(path), kind, default)
-    return validate(model, data, text, str(path)), text
+    _, text = read_toml(path)
+    return scenario_from_text(model, text, str(path), kind, default), text
+
+
+def scenario_from_text(model: type[ModelT], text: str, source: str, kind: str, default: str | None = None) -> ModelT:
+    """:func:`load_scenario` for TOML text that did not come from a file (``source`` names its origin)."""
+    data = parse_toml(text, source)
+    require_kind(data, text, source, kind, default)
+    return validate(model, data, text, source)
+
+
+# --------------------------------------------------------------------------- writing
+
+def _toml_value(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, (int, float)):
+        if isinstance(value, float) and not math.isfinite(value):
+            raise ValueError(f"TOML scenario values must be finite, got {value!r}")
+        return repr(value)
+    if isinstance(value, str):
+        return json.dumps(value, ensure_ascii=False)   # a JSON string is a TOML basic string
+    if isinstance(value, dict):
+        return "{ " + ", ".join(f"{_toml_key(k)} = {_toml_value(v)}" for k, v in value.items()) + " }"
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    raise TypeError(f"cannot write {type(value).__name__} to a scenario file")
+
+
+def _toml_key(key: str) -> str:
+    return key if re.fullmatch(r"[A-Za-z0-9_-]+", key) else json.dumps(key, ensure_ascii=False)
+
+
+def dumps_scenario(data: dict[str, Any], comments: dict[str, str] | None = None, header: str = "") -> str:
+    """A scenario as TOML text: scalars first, then ``[tables]`` (one level; deeper dicts written inline), then
+    ``[[arrays of tables]]``.  ``comments`` puts ``# text`` lines above a table (by its key); ``header`` above all.
+
+    Values are str, int, float, bool, and lists or dicts of them.
+    """
+    comments = comments or {}
+    lines = [f"# {line}" if line else "#" for line in header.splitlines()]
+    tables = []
+    for key, value in data.items():
+        if isinstance(value, dict):
+            tables.append((key, [value], False))
+        elif isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
+            tables.append((key, value, True))
+        else:
+            lines.append(f"{_toml_key(key)} = {_toml_value(value)}")
+    for key, entries, array in tables:
+        for entry in entries:
+            lines.append("")
+            lines += [f"# {line}" for line in comments.get(key, "").splitlines()]
+            lines.append(f"[[{_toml_key(key)}]]" if array else f"[{_toml_key(key)}]")
+            lines += [f"{_toml_key(k)} = {_toml_value(v)}" for k, v in entry.items()]
+    return "\n".join(lines) + "\n"

@@ -101,5 +101,28 @@ def model_copy(tmp_path: Path) -> Callable[[Callable[[str], str], str], Path]:
     return write
 
 
+def memoised_searches() -> pytest.MonkeyPatch:
+    """Memoise the service's trip and roster searches by scenario name and arguments (undo the returned patch).
+
+    Modules whose tests plan the same scenario through several front ends use it: they check what the front
+    ends make of a plan, not the search again.
+    """
+    import planner.service
+
+    patch = pytest.MonkeyPatch()
+    for name in ("search_trip", "search_roster"):
+        real, cache = getattr(planner.service, name), {}
+
+        def memo(*args, _real=real, _cache=cache, **kwargs):
+            key = (args[0].name if hasattr(args[0], "name") else id(args[0]), repr(args[1:]),
+                   repr(sorted((k, v) for k, v in kwargs.items() if k != "progress")))
+            if key not in _cache:
+                _cache[key] = _real(*args, **kwargs)
+            return _cache[key]
+
+        patch.setattr(planner.service, name, memo)
+    return patch
+
+
 def pytest_configure(config):
     config.addinivalue_line("markers", "packaging: builds and installs the wheel offline (no network); runs in CI")

@@ -16,13 +16,18 @@ import json
 import re
 import shlex
 import shutil
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
 from pathlib import Path
 
 import pytest
+from conftest import memoised_searches
 from test_caldav import PASSWORD, USER, call, radicale  # noqa: F401  (the Radicale server fixture)
 from typer.testing import CliRunner
 
-import planner.service
 from planner.cli import app
 
 REPO = Path(__file__).resolve().parent.parent
@@ -50,7 +55,7 @@ def test_the_readme_shows_commands():
     # the README is the contract: it shows the planners' commands (README.md)
     shown = commands()
     assert len(shown) >= 30
-    for command in ("check", "trip", "demo", "roster", "publish", "models", "prc"):
+    for command in ("check", "trip", "demo", "roster", "publish", "models", "prc", "serve"):
         assert any(line.split()[1] == command or f" {command} " in line for line in shown), command
 
 
@@ -80,21 +85,36 @@ def workdir(tmp_path_factory) -> Path:
 @pytest.fixture(scope="module")
 def reuse_searches():
     """Memoise the trip and roster searches by their arguments for this module."""
-    patch = pytest.MonkeyPatch()
-    for name in ("search_trip", "search_roster"):
-        real = getattr(planner.service, name)
-        cache: dict = {}
-
-        def memo(*args, _real=real, _cache=cache, **kwargs):
-            key = (args[0].name if hasattr(args[0], "name") else id(args[0]), repr(args[1:]),
-                   repr(sorted((k, v) for k, v in kwargs.items() if k != "progress")))
-            if key not in _cache:
-                _cache[key] = _real(*args, **kwargs)
-            return _cache[key]
-
-        patch.setattr(planner.service, name, memo)
+    patch = memoised_searches()
     yield
     patch.undo()
+
+
+def serve_and_stop(words: list[str], workdir: Path) -> None:
+    """Start a long-running ``phaseplan serve`` line as a process, see it answer /healthz with 200, stop it.
+
+    A free port replaces the default (other test runs may hold 8150) and the saved plans go to the scratch folder.
+    """
+    with socket.socket() as probe:
+        probe.bind(("127.0.0.1", 0))
+        port = probe.getsockname()[1]
+    command = [sys.executable, "-m", "planner", *words, "--port", str(port), "--data", str(workdir / "desk")]
+    server = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            assert server.poll() is None, server.stderr.read().decode()
+            try:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/healthz", timeout=2) as answer:
+                    assert answer.status == 200
+                    break
+            except OSError:
+                assert time.monotonic() < deadline, "phaseplan serve did not answer /healthz within 60 s"
+                time.sleep(0.3)
+    finally:
+        server.terminate()
+        server.wait(timeout=30)
+    assert (workdir / "desk" / "plans.sqlite3").is_file()
 
 
 @pytest.mark.parametrize("line", commands())
@@ -108,6 +128,9 @@ def test_readme_command_runs(line, workdir, reuse_searches, radicale, monkeypatc
         key, _, value = words.pop(0).partition("=")
         environment[key] = PASSWORD if value == "..." else value
     assert words.pop(0) == "phaseplan"
+    if words[0] == "serve":
+        serve_and_stop(words, workdir)
+        return
     target = None
     if ">" in words:
         target = words[words.index(">") + 1]

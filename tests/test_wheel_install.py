@@ -1,8 +1,9 @@
-"""The built wheel carries the parameter sets: they load from an installed copy."""
+"""The built wheel carries the parameter sets (they load from an installed copy) and the web app's files."""
 
 import json
 import subprocess
 import sys
+import zipfile
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parent.parent
@@ -14,6 +15,12 @@ def test_models_load_from_an_installed_wheel(tmp_path):
     subprocess.run([sys.executable, "-m", "pip", "wheel", "--quiet", "--no-deps", "--no-build-isolation",
                     "-w", str(wheels), str(REPO)], check=True)
     wheel = next(wheels.glob("phaseplan-*.whl"))
+    # the web app's templates and static files travel in the wheel (nothing is fetched at run time)
+    with zipfile.ZipFile(wheel) as archive:
+        names = set(archive.namelist())
+    for folder in ("templates", "static"):
+        shipped = {f"planner/web/{folder}/{p.name}" for p in (REPO / "planner" / "web" / folder).iterdir()}
+        assert shipped and shipped <= names, shipped - names
     subprocess.run([sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", str(target),
                     str(wheel)], check=True)
     probe = ("import json, planner; from planner.engine.parameters import available_models, load_model; "

@@ -1,8 +1,10 @@
 """The ``phaseplan`` command line: parse the arguments, call :mod:`planner.service`, render the result.
 
 One module per command group (:mod:`~planner.cli.models`, :mod:`~planner.cli.prc`, :mod:`~planner.cli.check`,
-:mod:`~planner.cli.trip`, :mod:`~planner.cli.roster`, :mod:`~planner.cli.publish`, :mod:`~planner.cli.daylight`), each registering its
-commands on :data:`planner.cli.app.app`. No science and no file format lives here. House rules:
+(:mod:`~planner.cli.models`, :mod:`~planner.cli.prc`, :mod:`~planner.cli.check`,
+:mod:`~planner.cli.trip` with :mod:`~planner.cli.quicktrip`, :mod:`~planner.cli.roster`, :mod:`~planner.cli.places`,
+:mod:`~planner.cli.publish`, :mod:`~planner.cli.daylight`, :mod:`~planner.cli.serve`), each registering its commands
+on :data:`planner.cli.app.app`. No science and no file format lives here. House rules:
 
 - ``--json`` writes exactly one JSON document (with ``"schema_version"``) to stdout; tables, progress,
   notes and errors go to stderr, so stdout stays clean.
@@ -11,7 +13,8 @@ commands on :data:`planner.cli.app.app`. No science and no file format lives her
 - Text from files (names, sources, paths) is escaped before it reaches rich markup.
 """
 
-from planner.cli import check, daylight, models, prc, publish, roster, trip  # noqa: F401  (each registers its commands)
+from planner.cli import (  # noqa: F401  (each registers its commands)
+    check, daylight, models, places, prc, publish, roster, serve, trip)
 from planner.cli.app import PROGRAM, app, main
 
 __all__ = ["PROGRAM", "app", "main"]

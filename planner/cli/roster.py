@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import math
+from datetime import datetime
 from enum import Enum
+from pathlib import Path
 from typing import Annotated
 
 import typer
@@ -44,8 +46,10 @@ from planner.plans.entries import clock, lux_text
 from planner.plans.files import PlanFiles, write_plan_files
 from planner.plans.ics import DEFAULT_ALARM_MINUTES
 from planner.rosters.export import mean_days, pattern_text, site_hm, unadapted_runs
+from planner.errors import InputError
 from planner.rosters import sleepiness as sleepview
 from planner.rosters.model import Roster
+from planner.rosters.sheet import next_monday
 from planner.rosters.search import (
     ENSEMBLE_TOLERANCE_H,
     LOW_HALF_WIDTH_H,
@@ -243,14 +247,21 @@ def _source(window: Window) -> str:
     return "box" if window.source == "light box" else window.source
 
 
-RosterArgument = Annotated[str, typer.Argument(metavar="FILE", help="Roster scenario file (.toml, kind = \"roster\").")]
+RosterArgument = Annotated[list[str] | None, typer.Argument(metavar="FILE...", help=(
+    "Roster scenario file (.toml, kind = \"roster\"), or spreadsheets (.xlsx, .csv; each sheet a draft)."))]
+TemplateOption = Annotated[Path | None, typer.Option(
+    "--template", metavar="FILE.xlsx",
+    help="Write an empty roster workbook to fill (settings, shift types, a grid of dates) and stop.")]
+TemplateStartOption = Annotated[datetime | None, typer.Option(
+    "--start", metavar="YYYY-MM-DD", formats=["%Y-%m-%d"],
+    help="First date of the template's grid (default: next Monday).")]
 
 
 @app.command("roster", help=(
     "Evaluate shift-roster drafts: how each displaces the workers' body clocks, the least disruptive light/dark "
     "and sleep plan per draft, the drafts ranked side by side, a day-by-day plan and a text chart."))
 def roster_command(
-    path: RosterArgument,
+    path: RosterArgument = None,
     strategy: Annotated[RosterStrategy, typer.Option(
         "--strategy", "-s", case_sensitive=False,
         help=("auto: search full adaptation to nights, the compromise phase position and staying day-oriented, "
@@ -290,12 +301,33 @@ def roster_command(
     strict: Annotated[bool, typer.Option(
         "--strict", metavar="", help=("Refuse drafts that break the working-time rules (the file's \\[rules] table) "
                                       "instead of ranking them last."))] = False,
+    template: TemplateOption = None,
+    start: TemplateStartOption = None,
 ) -> None:
-    """Plan a roster scenario (help text on the decorator)."""
-    request = service.RosterRequest(path, RosterStrategy(strategy).value, workers, seed, model_name, draft, robust,
-                                    model_list(models_list), group, strict=strict, rank_by=RankBy(rank_by).value)
+    """Plan a roster scenario or spreadsheets, or write a template (help text on the decorator)."""
+    if template is not None:
+        _write_template(template, start, force, json_out, path)
+        return
+    paths = tuple(path or ())
+    request = service.RosterRequest(paths[0] if len(paths) == 1 else paths, RosterStrategy(strategy).value, workers,
+                                    seed, model_name, draft, robust, model_list(models_list), group, strict=strict,
+                                    rank_by=RankBy(rank_by).value)
     run_roster(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms, group,
                                             alarm_kinds(alarm_for), paper))
+
+
+def _write_template(target: Path, start: datetime | None, force: bool, json_out: bool, paths: list[str] | None) -> None:
+    """``roster --template FILE.xlsx``: write the empty workbook (never over a file without ``--force``)."""
+    if paths:
+        raise InputError("--template writes an empty workbook; give no roster files with it", field="--template")
+    first = next_monday() if start is None else start.date()
+    written = service.write_roster_template(target, first, force=force)
+    if json_out:
+        emit_json({"command": "roster", "template": str(written), "start": first.isoformat()})
+        return
+    stderr_console().print(f"wrote {escape(str(written))}: fill in the settings sheet (column B), the shift table "
+                           f"and the draft sheet (one row per crew, one column per date from {first.isoformat()}), "
+                           f"then run 'phaseplan roster {escape(str(written))}'")
 
 
 def run_roster(request: service.RosterRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:

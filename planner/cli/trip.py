@@ -6,6 +6,7 @@ import contextlib
 import math
 from datetime import datetime, timedelta
 from enum import Enum
+from pathlib import Path
 from typing import Annotated
 
 import typer
@@ -18,6 +19,8 @@ from rich.table import Table
 from planner import service
 from planner.cli.agenda import AGENDA_BELOW_COLUMNS, print_agenda, print_comparison_lines
 from planner.cli.app import app
+from planner.cli.quicktrip import (ArriveOption, DepartOption, FromOption, PrepareOption, SaveOption, SleepOption,
+                                   StayOption, ToOption, quick_trip)
 from planner.cli.common import (
     NONE_TEXT,
     AlarmOption,
@@ -212,10 +215,13 @@ def _print_recommendation(console: Console, plan: TripPlanResult) -> None:
                       "found; consider more preparation days, more light, or a longer stay.")
 
 
-def run_trip(request: service.TripRequest, json_out: bool, files: PlanFiles = PlanFiles()) -> None:
-    """Plan a trip file and show or write the result (shared by ``trip`` and ``demo``)."""
+def run_trip(request: service.TripRequest, json_out: bool, files: PlanFiles = PlanFiles(),
+             save: tuple[Path, bool] | None = None) -> None:
+    """Plan a trip file and show or write the result (shared by ``trip`` and ``demo``); ``save`` = (file, force)
+    writes a quick trip's scenario once it is valid."""
     prepared = service.prepare_trip(request)
     files.check()
+    saved = None if save is None else str(service.save_trip_scenario(request.quick, save[0], force=save[1]))
     console = stderr_console()
     bar, update = progress_bar(console)
     long_work = request.robust or request.people or request.models
@@ -227,8 +233,10 @@ def run_trip(request: service.TripRequest, json_out: bool, files: PlanFiles = Pl
             outcome = service.plan_trip(request, prepared=prepared)
     written = write_plan_files(outcome.document(), files)
     if json_out:
-        emit_json(with_written(outcome.to_json(), written))
+        emit_json(with_written(outcome.to_json(), written) | ({"saved_scenario": saved} if saved else {}))
         return
+    if saved:
+        console.print(f"scenario saved to {escape(saved)} (phaseplan check and trip accept it)")
     _print_trip(console, outcome)
     print_written(console, written)
 
@@ -332,24 +340,30 @@ def _print_ensemble(console: Console, trip: Trip, ensemble: EnsembleResult) -> N
         console.print("  the models agree within 1 h on every day's CBTmin and on the days to re-entrain")
 
 
-ScenarioArgument = Annotated[str, typer.Argument(metavar="FILE", help="Trip scenario file (.toml, kind = \"trip\").")]
+ScenarioArgument = Annotated[str | None, typer.Argument(metavar="[FILE]", help=(
+    "Trip scenario file (.toml, kind = \"trip\"); or leave it out and give --from, --to, --depart, --arrive."))]
 
 
 @app.command("trip", help=(
     "Plan light and sleep for a trip across time zones: a day-by-day table on the local clock, the advance, "
     "delay and no-plan comparison, the recommendation and the cautions."))
-def trip_command(path: ScenarioArgument, strategy: StrategyOption = StrategyChoice.auto, model_name: TripModelOption = None,
+def trip_command(path: ScenarioArgument = None, strategy: StrategyOption = StrategyChoice.auto,
+                 model_name: TripModelOption = None,
                  people: PeopleOption = 0, seed: SeedOption = 0, robust: RobustOption = False,
                  models_list: ModelsOption = None, by_day: ByDayOption = None, json_out: JsonOption = False,
                  ics: IcsOption = None, report: ReportOption = None, chart: ChartOption = None,
                  force: ForceOption = False, alarm_minutes: AlarmOption = DEFAULT_ALARM_MINUTES,
                  no_alarms: NoAlarmsOption = False, alarm_for: AlarmKindsOption = DEFAULT_ALARM_FOR,
-                 paper: PaperOption = "A4") -> None:
-    """Plan a trip scenario (help text on the decorator)."""
-    request = service.TripRequest(path, StrategyChoice(strategy).value, model_name, people, seed, robust,
-                                  model_list(models_list), by_day)
+                 paper: PaperOption = "A4", origin: FromOption = None, destination: ToOption = None,
+                 depart: DepartOption = None, arrive: ArriveOption = None, stay: StayOption = None,
+                 sleep: SleepOption = None, prepare: PrepareOption = None, save: SaveOption = None) -> None:
+    """Plan a trip scenario or a quick trip (help text on the decorator)."""
+    quick = quick_trip(path, origin, destination, depart, arrive, stay, sleep, prepare, model_name, save, force)
+    request = service.TripRequest(path or "", StrategyChoice(strategy).value, model_name, people, seed, robust,
+                                  model_list(models_list), by_day, quick=quick)
     run_trip(request, json_out, PlanFiles(ics, report, chart, force, alarm_minutes, no_alarms,
-                                          alarm_kinds=alarm_kinds(alarm_for), paper=paper))
+                                          alarm_kinds=alarm_kinds(alarm_for), paper=paper),
+             save=None if save is None else (save, force))
 
 
 @app.command("demo", help=(

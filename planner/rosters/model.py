@@ -130,16 +130,22 @@ class Crew:
     """A group of workers on the same draft, starting ``offset_days`` into its pattern.
 
     Staggered crews (A starts the pattern on day 0, B on day 2, ...) cover a site around the clock;
-    each crew gets its own calendar.
+    each crew gets its own calendar.  ``draft_offsets`` gives another offset on named drafts (a slower
+    rotation is usually staggered further apart).
     """
 
     name: str
     offset_days: int = 0
+    draft_offsets: tuple[tuple[str, int], ...] = ()
+
+    def offset_in(self, draft: Draft) -> int:
+        """Days into ``draft``'s pattern this crew starts."""
+        return dict(self.draft_offsets).get(draft.name, self.offset_days)
 
 
 def crew_draft(draft: Draft, crew: Crew) -> Draft:
-    """The draft as ``crew`` works it: its pattern rotated to start ``offset_days`` in."""
-    shift = crew.offset_days % len(draft.pattern)
+    """The draft as ``crew`` works it: its pattern rotated to start :meth:`Crew.offset_in` days in."""
+    shift = crew.offset_in(draft) % len(draft.pattern)
     if shift == 0:
         return draft
     return Draft(f"{draft.name} ({crew.name})", draft.pattern[shift:] + draft.pattern[:shift], draft.cycles,

@@ -69,6 +69,7 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     [[crews]]
     name = "B"
     offset_days = 2
+    draft_offsets = { "2 days, 2 nights, 4 off" = 3 }   # optional: another offset on a named draft
 """
 
 from __future__ import annotations
@@ -76,7 +77,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
-from typing import Literal
+from typing import Annotated, Literal
 
 from pydantic import Field, field_validator
 
@@ -155,6 +156,7 @@ class RulesEntry(StrictEntry):
 class CrewEntry(StrictEntry):
     name: str = Field(min_length=1, max_length=40)
     offset_days: int = Field(0, ge=0, le=365)
+    draft_offsets: dict[str, Annotated[int, Field(ge=0, le=365)]] = Field(default_factory=dict)
 
 
 class DraftEntry(StrictEntry):
@@ -213,7 +215,7 @@ def load_roster(path: str | Path) -> tuple[Roster, RosterInfo]:
     """
     path = Path(path)
     spec, text = tomlfile.load_scenario(RosterFile, path, "roster")
-    return _build(spec, text, path)
+    return build_roster(spec, Problems(str(path), text), path)
 
 
 def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: Problems) -> ShiftType | None:
@@ -255,8 +257,13 @@ def _shift(code: str, entry: ShiftEntry, commute_h: float, problems: Problems) -
     return ShiftType(code, start, end, entry.label or code, sleep)
 
 
-def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]:
-    problems = Problems(str(path), text)
+def build_roster(spec: RosterFile, problems, path: Path) -> tuple[Roster, RosterInfo]:
+    """A validated :class:`RosterFile` as a :class:`~planner.rosters.model.Roster` (shared by every roster reader).
+
+    ``problems`` collects the semantic problems (``add(field, message)``, ``raise_if_any()``) and says where each
+    field stands: a TOML line (:class:`planner.scenariofile.Problems`) or a spreadsheet cell
+    (:mod:`planner.rosters.sheet`).  ``path`` is the file relative model paths are read from.
+    """
     model = model_reference(spec.model, path, problems)
     commute_h = spec.workers.commute_minutes / 60.0
     shifts = [s for s in (_shift(code, entry, commute_h, problems) for code, entry in spec.shifts.items()) if s]
@@ -285,6 +292,10 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
         if entry.name in crew_names:
             problems.add(("crews", k, "name"), f'"{entry.name}" is used by another crew; each crew needs its own name')
         crew_names.add(entry.name)
+        for draft_name in entry.draft_offsets:
+            if draft_name not in names:
+                problems.add(("crews", k, "draft_offsets"), f'no draft named "{draft_name}"; allowed: '
+                                                            + ", ".join(f'"{d.name}"' for d in drafts))
     problems.raise_if_any()
     sleep = spec.workers.sleep
     site = Place(spec.site.name, zone(spec.site.time_zone), float(spec.site.latitude), float(spec.site.longitude),
@@ -300,6 +311,6 @@ def _build(spec: RosterFile, text: str, path: Path) -> tuple[Roster, RosterInfo]
                     work_lux=light.work_lux, indoor_lux=light.indoor_lux, daylight_lux=light.daylight_lux,
                     sky=light.sky, daylight_exposure=light.daylight_exposure,
                     night_outdoor_lux=light.night_outdoor_lux, measures=measures, crew_size=spec.workers.count,
-                    crews=tuple(Crew(c.name, c.offset_days) for c in spec.crews),
+                    crews=tuple(Crew(c.name, c.offset_days, tuple(c.draft_offsets.items())) for c in spec.crews),
                     rules=WorkingTimeRules(**spec.rules.model_dump()))
     return roster, RosterInfo(spec.name, spec.description, model, str(path))

@@ -408,7 +408,7 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                              + (" (robust over a population)" if chosen.robust is not None else "")),
                 ("ranking", result.reason)]
     if roster.crews:
-        summary.append(("crews", ", ".join(f"{c.name} (from day {c.offset_days % len(chosen.draft.pattern) + 1} "
+        summary.append(("crews", ", ".join(f"{c.name} (from day {c.offset_in(chosen.draft) % len(chosen.draft.pattern) + 1} "
                                            "of the pattern)" for c in roster.crews)))
     citations = tuple(result.citations) + tuple(STRATEGY_CITATIONS[name] for name in chosen.strategies)
     if chosen.population is not None:

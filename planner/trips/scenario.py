@@ -19,7 +19,7 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     preparation_days = 3                         # days before the first departure (0..14)
     max_sleep_shift_h_per_day = 1.0              # largest move of bedtime per preparation day (0, 3]
 
-    [home]
+    [home]                                # or just: place = "Lisbon" (see below)
     name = "Lisbon"
     time_zone = "Europe/Lisbon"
     latitude = 38.72
@@ -59,6 +59,14 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     light_log = "week.csv"                # a wearable light meter's CSV, relative to this file
     light_log_time_zone = "Europe/Lisbon" # zone of time stamps without a UTC offset (default: home)
     tau_h = 24.4                          # measured intrinsic period [h]
+
+Places by name
+--------------
+Any place table (``[home]``, ``[destination]``, ``[[stops]]``, and a roster's ``[site]``) may give
+``place = "Tokyo"`` (or ``"London, GB"``, ``"Portland, US-OR"``) instead of ``time_zone``,
+``latitude`` and ``longitude``; :func:`planner.world.gazetteer.resolve_place` looks it up, and an unknown
+or ambiguous name is reported on the ``place`` line (the ambiguity with its candidates).  ``name``
+is then optional.
 
 A measured DLMO is preferred to a light log, and a light log to the habitual sleep
 (:mod:`planner.trips.evidence`).
@@ -254,6 +262,17 @@ def load_trip(path: str | Path) -> tuple[Trip, ScenarioInfo]:
     return _build(spec, text, path)
 
 
+def load_trip_text(text: str, source: str, folder: str | Path = ".") -> tuple[Trip, ScenarioInfo]:
+    """:func:`load_trip` for scenario text that is not (yet) a file, e.g. a trip given on the command line.
+
+    ``source`` names the text in messages; relative paths in it (a model file, a light log) are read from
+    ``folder``.
+    """
+    spec = tomlfile.scenario_from_text(TripFile, text, source, "trip", default="trip")
+    trip, info = _build(spec, text, Path(folder) / "scenario.toml", source)
+    return trip, ScenarioInfo(info.name, info.description, info.model, source, info.round_trip, info.person)
+
+
 def _local(text: str, place: Place, fold: int | None, field: tuple[str | int, ...],
            problems: Problems) -> datetime | None:
     try:
@@ -267,8 +286,8 @@ def _local(text: str, place: Place, fold: int | None, field: tuple[str | int, ..
         return None
 
 
-def _build(spec: TripFile, text: str, path: Path) -> tuple[Trip, ScenarioInfo]:
-    problems = Problems(str(path), text)
+def _build(spec: TripFile, text: str, path: Path, source: str | None = None) -> tuple[Trip, ScenarioInfo]:
+    problems = Problems(source or str(path), text)
     model = model_reference(spec.model, path, problems)
     home_sleep = spec.traveller.sleep
     home = build_place(spec.home, home_sleep)
@@ -459,4 +478,4 @@ def demo_path(name: str | None = None) -> Path:
     return demos[key]
 
 
-__all__ = ["ScenarioInfo", "TripFile", "load_trip", "builtin_scenario_paths", "demo_path", "DEFAULT_DEMO"]
+__all__ = ["ScenarioInfo", "TripFile", "load_trip", "load_trip_text", "builtin_scenario_paths", "demo_path", "DEFAULT_DEMO"]
