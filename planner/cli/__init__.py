@@ -1,7 +1,6 @@
 """The ``phaseplan`` command line: parse the arguments, call :mod:`planner.service`, render the result.
 
 One module per command group (:mod:`~planner.cli.models`, :mod:`~planner.cli.prc`, :mod:`~planner.cli.check`,
-(:mod:`~planner.cli.models`, :mod:`~planner.cli.prc`, :mod:`~planner.cli.check`,
 :mod:`~planner.cli.trip` with :mod:`~planner.cli.quicktrip`, :mod:`~planner.cli.roster`, :mod:`~planner.cli.places`,
 :mod:`~planner.cli.publish`, :mod:`~planner.cli.daylight`, :mod:`~planner.cli.serve`), each registering its commands
 on :data:`planner.cli.app.app`. No science and no file format lives here. House rules:
