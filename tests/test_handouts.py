@@ -166,7 +166,7 @@ def test_each_event_carries_the_caution_of_its_kind(crane_files, tokyo_document)
                 expected = "daylight"       # not the light box's UV filter (common practice, no single source)
             elif "glasses" in summary:
                 expected = "dark_glasses"
-            elif summary == "Sleep":
+            elif summary == "Sleep" or summary.startswith("Sleep "):   # also "Sleep in flight", "Sleep on the layover"
                 expected = "sleep_loss"
             elif summary.endswith("(night)"):
                 expected = "night_shift_driving"   # Lee et al. 2016, PNAS 113:176

@@ -153,7 +153,8 @@ def test_scores_say_whose_they_are_and_when_drafts_are_within_the_spread(factory
     def draft(name, p10, median, p90, size=40):
         population = SimpleNamespace(size=size, score={"p10": p10, "median": median, "p90": p90})
         return SimpleNamespace(draft=SimpleNamespace(name=name), population=population, rank_score=median,
-                               best_strategy="nights", conforms=True, breaches=())
+                               best_strategy="nights", conforms=True, breaches=(),
+                               rank_by="disruption")
 
     a, b, far = draft("A", 5.0, 6.0, 8.0), draft("B", 5.5, 6.6, 9.0), draft("C", 9.0, 11.0, 12.0)
     assert within_spread(a, b) and not within_spread(a, far)
@@ -163,6 +164,6 @@ def test_scores_say_whose_they_are_and_when_drafts_are_within_the_spread(factory
     assert "0.6 h/wk" in close
     assert "larger than the spread between workers" in ranking_reason([a, far])
     alone = SimpleNamespace(draft=SimpleNamespace(name="A"), population=None, rank_score=6.0, best_strategy="nights",
-                            conforms=True, breaches=())
+                            conforms=True, breaches=(), rank_by="disruption")
     assert within_spread(alone, alone) is None
     assert "average worker only" in ranking_reason([alone, alone])

@@ -15,6 +15,7 @@ import pytest
 from typer.testing import CliRunner
 
 from planner.cli import app
+from planner.plans.entries import SCHEMA_VERSION
 from planner.engine.validation import Check, Validation, optimistic_preparation, recommended_default
 
 
@@ -26,7 +27,7 @@ def document(result) -> dict:
     assert result.exit_code == 0, result.stderr
     doc, end = json.JSONDecoder().raw_decode(result.stdout.lstrip())
     assert result.stdout.lstrip()[end:].strip() == ""
-    assert doc["schema_version"] == 1
+    assert doc["schema_version"] == SCHEMA_VERSION
     return doc
 
 
