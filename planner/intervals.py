@@ -10,7 +10,7 @@ def free_segments(start: datetime, end: datetime,
                   taken: Iterable[tuple[datetime, datetime]]) -> list[tuple[datetime, datetime]]:
     """The parts of [start, end] outside every interval of ``taken``, in time order."""
     segments = [(start, end)]
-    for a, b in taken:
+    for a, b in [(a, b) for a, b in taken if b > start and a < end]:   # only those that can cut it
         remaining = []
         for s, e in segments:
             if b <= s or a >= e:

@@ -11,18 +11,27 @@ batch axis, so the cost per step hardly depends on N for N up to a few thousand.
 
 Shape contract: states are ``(3, N)`` (oscillator variables, then n); the
 recorded trajectory is ``(K + 1, 3, N)`` on the ``K + 1`` grid points.
+
+Kernels
+-------
+The same scheme runs on one of two kernels: ``"numpy"`` (this module, the reference) or
+``"compiled"`` (:mod:`planner.engine.kernel_numba`, one schedule per loop iteration on every core;
+needs numba).  ``"auto"`` takes the compiled one when numba is installed.  The choice is the
+``kernel`` argument of :func:`integrate` and :func:`simulate`, else the environment variable
+``PHASEPLAN_KERNEL`` (``auto``, ``numpy`` or ``compiled``), else ``"auto"``.
 """
 
 from __future__ import annotations
 
 import dataclasses
+import os
 from dataclasses import dataclass
 from datetime import datetime, timedelta
 from typing import Sequence
 
 import numpy as np
 
-from planner.engine import process_l
+from planner.engine import kernel_numba, process_l
 from planner.engine.oscillators import ProcessLCoefficients
 from planner.engine.parameters import ModelSpec
 from planner.engine.process_l import MINUTES_PER_HOUR
@@ -34,6 +43,10 @@ CHUNK_STEPS = 256
 
 #: Sub-steps used by :func:`fine_steps` to re-integrate one grid step (a 30-min step in 1-min steps).
 FINE_SUBSTEPS = 30
+
+#: Environment variable choosing the kernel when no ``kernel`` argument is given.
+KERNEL_ENVIRONMENT = "PHASEPLAN_KERNEL"
+KERNELS = ("auto", "numpy", "compiled")
 
 STATUS_SUCCESS = 0
 STATUS_NONFINITE = 1
@@ -65,6 +78,8 @@ class SimulationResult:
         Nominal step [h].
     light : GridLight
         The light the batch was integrated with (for re-integrating single steps finely).
+    kernel : str
+        The kernel that integrated it, ``"numpy"`` or ``"compiled"`` (:func:`fine_steps` uses the same).
     """
 
     success: bool
@@ -77,6 +92,7 @@ class SimulationResult:
     drive: np.ndarray
     step_h: float
     light: GridLight | None = dataclasses.field(default=None, repr=False)
+    kernel: str = "numpy"
 
     @property
     def size(self) -> int:
@@ -98,11 +114,10 @@ class SimulationResult:
         with no light reaching the eye.
         """
         family, c = self.model.family, self.model.coefficients
-        rows = self.states.shape[0]
-        flat = np.moveaxis(self.states[:, :2, :], 1, 0).reshape(2, -1)
-        drive = np.zeros(flat.shape[1]) if light_off else self.drive.reshape(-1)
-        coefficients = _take_coefficients(c, np.tile(np.arange(self.size), rows))
-        return np.moveaxis(family.derivatives(flat, drive, coefficients).reshape(2, rows, -1), 0, 1)
+        # (2, K + 1, N) views: per-person coefficients of shape (N,) broadcast along the last axis.
+        oscillator = np.moveaxis(self.states[:, :2, :], 1, 0)
+        drive = np.zeros(self.states.shape[::2]) if light_off else self.drive
+        return np.moveaxis(family.derivatives(oscillator, drive, c), 0, 1)
 
 
 def _take_coefficients(c, columns: np.ndarray):
@@ -129,6 +144,8 @@ def fine_steps(result: SimulationResult, rows: np.ndarray, columns: np.ndarray,
     oscillator : ndarray, shape (substeps + 1, 2, E)
         Oscillator states at those points.
     """
+    if result.kernel == "compiled":
+        return kernel_numba.fine_steps(result, rows, columns, substeps)
     light = result.light
     model = result.model
     family = model.family
@@ -200,7 +217,29 @@ def _check_batch_parameters(model: ModelSpec, size: int) -> None:
                              field=f"parameters.{name}")
 
 
-def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> SimulationResult:
+def resolve_kernel(kernel: str | None = None) -> str:
+    """The kernel a call will use, ``"numpy"`` or ``"compiled"`` (see the module docstring).
+
+    Raises
+    ------
+    InputError
+        For an unknown name, or ``"compiled"`` when numba is not installed.
+    """
+    source = "kernel"
+    if kernel is None:
+        kernel, source = os.environ.get(KERNEL_ENVIRONMENT, "auto").strip().lower() or "auto", KERNEL_ENVIRONMENT
+    if kernel not in KERNELS:
+        raise InputError(f"{source} is {kernel!r}; expected one of {', '.join(KERNELS)}", field=source)
+    if kernel == "compiled" and not kernel_numba.AVAILABLE:
+        raise InputError(f"{source} asks for the compiled kernel but numba is not installed "
+                         "(pip install numba, or use the numpy kernel)", field=source)
+    if kernel == "auto":
+        return "compiled" if kernel_numba.AVAILABLE else "numpy"
+    return kernel
+
+
+def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray, *,
+              kernel: str | None = None) -> SimulationResult:
     """Integrate a batch already sampled on its grid.
 
     Parameters
@@ -211,13 +250,46 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
         The batch's light on its grid.
     initial_state : array_like, shape (3,) or (3, N)
         State at ``light.times[0]``.
+    kernel : {"auto", "numpy", "compiled"}, optional
+        Which implementation of the scheme runs (see :func:`resolve_kernel`); the results agree
+        to rounding.
     """
+    chosen = resolve_kernel(kernel)
     size = light.size
     _check_batch_parameters(model, size)
     state0 = np.broadcast_to(np.asarray(initial_state, dtype=float).reshape(3, -1), (3, size)).copy()
     if not np.all(np.isfinite(state0)):
         raise InputError("initial state must be finite", field="initial_state")
     family, c, pl = model.family, model.coefficients, model.process_l
+    times = light.times
+    steps = times.size - 1
+    lengths = np.diff(times)
+    if chosen == "compiled" and not kernel_numba.supports(family.key, pl.form):
+        chosen = "numpy"
+    if chosen == "compiled":
+        states, drives, failure = kernel_numba.integrate_batch(model, light, state0)
+    else:
+        states, drives, failure = _integrate_numpy(model, light, state0)
+    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0,
+                  light=light, kernel=chosen)
+    if failure is not None:
+        step, column = failure
+        states[step + 1:] = np.nan
+        drives[step + 1:] = np.nan
+        when = light.epoch + timedelta(hours=float(times[step]))
+        return SimulationResult(False, STATUS_NONFINITE,
+                                f"state of schedule {column} became non-finite in the step starting "
+                                f"{when.isoformat()}; reduce the step or check the parameters",
+                                states=states, drive=drives, **common)
+    return SimulationResult(True, STATUS_SUCCESS, f"integrated {size} schedule(s) over {steps} steps",
+                            states=states, drive=drives, **common)
+
+
+def _integrate_numpy(model: ModelSpec, light: GridLight,
+                     state0: np.ndarray) -> tuple[np.ndarray, np.ndarray, tuple[int, int] | None]:
+    """The numpy kernel: all schedules advance together, one step at a time."""
+    family, c, pl = model.family, model.coefficients, model.process_l
+    size = light.size
     times = light.times
     steps = times.size - 1
     lengths = np.diff(times)
@@ -246,19 +318,7 @@ def integrate(model: ModelSpec, light: GridLight, initial_state: np.ndarray) -> 
         drives[steps] = process_l.drive(light.lux[-1], states[steps, 2], pl)
     else:
         drives[0] = 0.0
-    common = dict(model=model, epoch=light.epoch, times=times, step_h=float(lengths.max()) if steps else 0.0,
-                  light=light)
-    if failure is not None:
-        step, column = failure
-        states[step + 1:] = np.nan
-        drives[step + 1:] = np.nan
-        when = light.epoch + timedelta(hours=float(times[step]))
-        return SimulationResult(False, STATUS_NONFINITE,
-                                f"state of schedule {column} became non-finite in the step starting "
-                                f"{when.isoformat()}; reduce the step or check the parameters",
-                                states=states, drive=drives, **common)
-    return SimulationResult(True, STATUS_SUCCESS, f"integrated {size} schedule(s) over {steps} steps",
-                            states=states, drive=drives, **common)
+    return states, drives, failure
 
 
 def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, nominal,
@@ -327,7 +387,7 @@ def default_step_h(model: ModelSpec) -> float:
 
 def simulate(model: ModelSpec, schedules: LightSchedule | Sequence[LightSchedule], initial_state: np.ndarray,
              *, start: datetime | None = None, end: datetime | None = None,
-             step_minutes: float | None = None) -> SimulationResult:
+             step_minutes: float | None = None, kernel: str | None = None) -> SimulationResult:
     """Simulate one or more light schedules.
 
     Parameters
@@ -342,6 +402,8 @@ def simulate(model: ModelSpec, schedules: LightSchedule | Sequence[LightSchedule
         Span to simulate; default the latest start and earliest end of the schedules.
     step_minutes : float, optional
         Step [min]; default the model file's validated step.
+    kernel : {"auto", "numpy", "compiled"}, optional
+        See :func:`integrate`.
     """
     if isinstance(schedules, LightSchedule):
         schedules = [schedules]
@@ -356,7 +418,7 @@ def simulate(model: ModelSpec, schedules: LightSchedule | Sequence[LightSchedule
     people = model_batch_size(model)
     if light.size == 1 and people > 1:
         light = light.repeated(people)
-    return integrate(model, light, initial_state)
+    return integrate(model, light, initial_state, kernel=kernel)
 
 
 def model_batch_size(model: ModelSpec) -> int:

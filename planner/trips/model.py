@@ -262,12 +262,22 @@ def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
             layers.append(light_box(window.start, window.end, window.lux))
         else:
             layers.append(ambient(window.start, window.end, window.lux, window.source))
-    for flight in trip.flights:
-        layers.append(ambient(flight.depart, flight.arrive, trip.light.cabin_lux, "cabin"))
+    layers.extend(_cabin_layers(trip))
     for window in plan.avoid:
         layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
-    layers.extend(sleep(a, b) for a, b in plan.sleep)
+    layers.extend(_sleep_layers(tuple(plan.sleep)))
     return LightSchedule.from_layers(trip.start, trip.end, trip.light.indoor_lux, layers)
+
+
+@lru_cache(maxsize=64)
+def _cabin_layers(trip: Trip) -> tuple[LightLayer, ...]:
+    return tuple(ambient(flight.depart, flight.arrive, trip.light.cabin_lux, "cabin") for flight in trip.flights)
+
+
+@lru_cache(maxsize=4096)
+def _sleep_layers(episodes: tuple[tuple[datetime, datetime], ...]) -> tuple[LightLayer, ...]:
+    """Sleep layers of a plan's sleep (searches build many plans with the same sleep)."""
+    return tuple(sleep(a, b) for a, b in episodes)
 
 
 @dataclass(frozen=True)

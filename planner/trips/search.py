@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 from datetime import datetime, timedelta
 from typing import Callable, Literal, Sequence
 
@@ -82,6 +83,13 @@ WINDOW_LATTICE_H = 0.25
 RESPONSE_SIDE_H = 8.0
 #: Shortest prescribed window [min]: shorter ones are dropped (a practicality limit of this planner).
 MIN_WINDOW_MINUTES = 10.0
+#: Day placements :meth:`TripPlanner.build` remembers before starting afresh (bounds memory).
+PLACED_CACHE_SIZE = 50_000
+#: The brute-force reference plan (:meth:`TripPlanner.reference_candidates`): each day, a bright-light
+#: window of one of these lengths [h] starting anywhere within the day's half-days around its
+#: anchor on a grid of ``REFERENCE_START_STEP_H`` (a check on the search devised by this project).
+REFERENCE_WINDOW_HOURS = (2.0, 3.0)
+REFERENCE_START_STEP_H = 0.25
 #: Longest prescribed light-avoidance window [h] (a practicality limit of this planner).
 MAX_AVOIDANCE_H = 4.0
 #: A trip back home whose time at the destination is at most this many full days is planned
@@ -160,6 +168,7 @@ class Evaluator:
     initial_state: np.ndarray | None = None
 
     def __post_init__(self):
+        self._day_tables = {}
         self.targets_ = targets(self.trip, self.model)
         self.days = trip_days(self.trip)
         from planner.engine.entrainment import entrain, place_pattern
@@ -219,31 +228,47 @@ class Evaluator:
         ratio = np.nanmin(amplitude, axis=0) / self.reference_amplitude
         return [self._outcome(plan, markers[j], float(ratio[j]), aim) for j, plan in enumerate(plans)]
 
+    def _day_table(self, aim: Aim) -> tuple[list[Place], np.ndarray, np.ndarray, list[float]]:
+        """Per day: the place aimed at, its bounds [h since trip start] and the target clock [h]."""
+        table = self._day_tables.get(aim)
+        if table is None:
+            epoch = self.trip.start
+            places = [self.trip.home if aim == "home" else target_place(self.trip, day) for day in self.days]
+            table = self._day_tables[aim] = (
+                places, np.array([hours_between(epoch, day.start) for day in self.days]),
+                np.array([hours_between(epoch, day.end) for day in self.days]),
+                [self.target_clock[place.name] for place in places])
+        return table
+
     def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float, aim: Aim = "route") -> Outcome:
         epoch = self.trip.start
-        day_outcomes = []
-        for day in self.days:
-            a, b = hours_between(epoch, day.start), hours_between(epoch, day.end)
-            inside = marker_h[(marker_h >= a) & (marker_h < b)]
-            place = self.trip.home if aim == "home" else target_place(self.trip, day)
-            if inside.size:
-                moment = epoch + timedelta(hours=float(inside[-1]))
-                local = moment.astimezone(place.zone)
+        places, day_start, day_end, target = self._day_table(aim)
+        # Each day's CBTmin is the last marker inside it (markers are in time order).
+        last = np.searchsorted(marker_h, day_end, side="left") - 1
+        found = (last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0
+        day_outcomes, moments_h = [], []
+        for i, day in enumerate(self.days):
+            if found[i]:
+                hours = float(marker_h[last[i]])
+                moment = epoch + timedelta(hours=hours)
+                local = moment.astimezone(places[i].zone)
                 clock = local.hour + local.minute / 60 + local.second / 3600
-                error = float(phase_difference(clock, self.target_clock[place.name]))
+                error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
+                error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
+                moments_h.append((i, hours))
             else:
                 moment, error = None, math.nan
-            day_outcomes.append(DayOutcome(day, place, moment, error))
+            day_outcomes.append(DayOutcome(day, places[i], moment, error))
         # Re-entrainment, net shift and direction describe the time away: from the arrival day
         # until the day of the flight back home (the whole rest of a one-way trip).
         arrival, back = self.arrival_index(), self.return_index()
-        stay = [o.error_h for o in day_outcomes[arrival:back]]
-        settled = reentrainment(np.asarray(stay), 0.0, REENTRAINMENT_TOLERANCE_H)
-        net = _net_shift_h([o.cbtmin for o in day_outcomes[:back]])
+        stay = np.array([o.error_h for o in day_outcomes[arrival:back]])
+        settled = reentrainment(stay, 0.0, REENTRAINMENT_TOLERANCE_H)
+        net = _net_shift_h([hours for i, hours in moments_h if i < back])
         direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
-        score = person_score(settled.day, np.asarray(stay)) + plan_burden_days(self.trip, plan)
-        finite = [abs(e) for e in stay if math.isfinite(e)]
-        largest = max(finite) if finite else math.nan
+        score = person_score(settled.day, stay) + plan_burden_days(self.trip, plan)
+        finite = np.abs(stay[np.isfinite(stay)])
+        largest = float(finite.max()) if finite.size else math.nan
         return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest)
 
 
@@ -261,20 +286,24 @@ def plan_burden_days(trip: Trip, plan: Plan) -> float:
     return BOX_MINUTE_PENALTY_DAYS * plan.box_minutes + SLEEP_SHIFT_PENALTY_DAYS * _sleep_displacement_h(trip, plan)
 
 
-def _net_shift_h(cbtmins: Sequence[datetime | None]) -> float:
-    """Net movement of CBTmin over the trip [h]: the sum of daily moves, each taken as the
-    shortest way round the clock (a body clock moves well under 12 h a day); + later, − earlier."""
-    known = [c for c in cbtmins if c is not None]
-    total = 0.0
-    for a, b in zip(known[:-1], known[1:]):
-        total += float(phase_difference(hours_between(a, b) % HOURS_PER_DAY, 0.0))
-    return total
+def _net_shift_h(cbtmin_hours: Sequence[float]) -> float:
+    """Net movement of CBTmin over the trip [h] from the daily CBTmin times [h since the trip's
+    start]: the sum of daily moves, each taken as the shortest way round the clock (a body clock
+    moves well under 12 h a day); + later, − earlier."""
+    if len(cbtmin_hours) < 2:
+        return 0.0
+    return float(np.sum(phase_difference(np.mod(np.diff(cbtmin_hours), HOURS_PER_DAY), 0.0)))
 
 
 def _sleep_displacement_h(trip: Trip, plan: Plan) -> float:
+    return _sleep_displacement(trip, plan.sleep)
+
+
+@lru_cache(maxsize=4096)
+def _sleep_displacement(trip: Trip, sleep: tuple) -> float:
     habitual = habitual_sleep(trip)
     total = 0.0
-    for (a, _), (b, _) in zip(habitual, plan.sleep):
+    for (a, _), (b, _) in zip(habitual, sleep):
         total += abs(hours_between(a, b))
     return total
 
@@ -295,10 +324,15 @@ def required_shift_h(trip: Trip, evaluator: Evaluator, strategy: Strategy) -> fl
 # --- windows -------------------------------------------------------------------------------------
 
 def _forbidden(trip: Trip, plan_sleep) -> list[tuple[datetime, datetime]]:
+    return list(_forbidden_spans(trip, tuple(plan_sleep)))
+
+
+@lru_cache(maxsize=4096)
+def _forbidden_spans(trip: Trip, plan_sleep: tuple) -> tuple[tuple[datetime, datetime], ...]:
     spans = list(plan_sleep)
     spans += [(f.depart, f.arrive) for f in trip.flights]
     spans += [(b.start, b.end) for b in trip.busy]
-    return sorted(spans)
+    return tuple(sorted(spans))
 
 
 def _longest(segments):
@@ -367,6 +401,7 @@ class TripPlanner:
         self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
                                    initial_state=initial_state)
         self.days = self.evaluator.days
+        self._placed: dict = {}   # see build
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
@@ -376,41 +411,55 @@ class TripPlanner:
             if day.kind == "preparation":
                 cumulative = choice.sleep_shift_h
                 shifts.append(cumulative)
-        sleep = habitual_sleep(self.trip, shifts)
-        forbidden = _forbidden(self.trip, sleep)
-        bright, avoid = [], []
-        used: dict[tuple[int, str], float] = {}   # prescribed minutes per (trip day, source)
-        caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
+        sleep = tuple(habitual_sleep(self.trip, shifts))
+        # The windows of a day depend only on the days before it, so the windows placed up to
+        # each day are remembered (searches vary one day of otherwise equal plans).
+        placed: tuple = (sleep, (), (), ())     # sleep, bright, avoid, used minutes per (day, source)
+        if len(self._placed) > PLACED_CACHE_SIZE:
+            self._placed.clear()
         for day, choice, anchor in zip(self.days, choices, anchors):
-            if anchor is None:
+            if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
-            # A day's windows sit on either side of its CBTmin, so they may fall on the evening
-            # before the day (delaying light before a CBTmin just after midnight): they are
-            # bounded by the anchor's own half-day, not by the calendar day.
-            lo = max(anchor - ANCHOR_REACH, self.trip.start)
-            hi = min(anchor + ANCHOR_REACH, self.trip.end)
-            if choice.bright_hours > 0:
-                s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
-                e = s + timedelta(hours=choice.bright_hours)
-                taken = sorted(forbidden + [(w.start, w.end) for w in bright])
-                window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
-                if window is not None:
-                    key = (self._day_index(window.start), window.source)
-                    room = caps[window.source] - used.get(key, 0.0)
-                    window = window if window.minutes <= room else (
-                        Window(window.start, window.start + timedelta(minutes=room), window.lux, window.source)
-                        if room >= MIN_WINDOW_MINUTES else None)
-                if window is not None:
-                    bright.append(window)
-                    used[key] = used.get(key, 0.0) + window.minutes
-            if choice.avoid_hours > 0:
-                s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
-                e = s + timedelta(hours=choice.avoid_hours)
-                taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
-                window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", sorted(taken))
-                if window is not None:
-                    avoid.append(window)
-        return Plan(tuple(sleep), tuple(bright), tuple(avoid))
+            key = (placed, choice, anchor)
+            following = self._placed.get(key)
+            if following is None:
+                following = self._placed[key] = self._place_day(placed, choice, anchor)
+            placed = following
+        return Plan(sleep, placed[1], placed[2])
+
+    def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime) -> tuple:
+        """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
+        sleep, bright, avoid, used_items = placed
+        bright, avoid, used = list(bright), list(avoid), dict(used_items)
+        forbidden = _forbidden(self.trip, sleep)
+        caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
+        # A day's windows sit on either side of its CBTmin, so they may fall on the evening
+        # before the day (delaying light before a CBTmin just after midnight): they are
+        # bounded by the anchor's own half-day, not by the calendar day.
+        lo = max(anchor - ANCHOR_REACH, self.trip.start)
+        hi = min(anchor + ANCHOR_REACH, self.trip.end)
+        if choice.bright_hours > 0:
+            s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
+            e = s + timedelta(hours=choice.bright_hours)
+            taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
+            window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
+            if window is not None:
+                key = (self._day_index(window.start), window.source)
+                room = caps[window.source] - used.get(key, 0.0)
+                window = window if window.minutes <= room else (
+                    Window(window.start, window.start + timedelta(minutes=room), window.lux, window.source)
+                    if room >= MIN_WINDOW_MINUTES else None)
+            if window is not None:
+                bright.append(window)
+                used[key] = used.get(key, 0.0) + window.minutes
+        if choice.avoid_hours > 0:
+            s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
+            e = s + timedelta(hours=choice.avoid_hours)
+            taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
+            window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", taken)
+            if window is not None:
+                avoid.append(window)
+        return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
 
     def _day_index(self, moment: datetime) -> int:
         """Index of the trip day holding ``moment`` (the last day for the trip's end)."""
@@ -455,8 +504,30 @@ class TripPlanner:
             shifts = sorted({previous_shift - sign * step, previous_shift - sign * step / 2, previous_shift})
         return [DayChoice(b[0], b[1], b[2], a[0], a[1], s) for b in bright_opts for a in avoid_opts for s in shifts]
 
-    def greedy(self, strategy: Strategy) -> tuple[list[DayChoice], list[datetime | None], Outcome]:
-        """Day-by-day search with a one-day look-ahead (receding horizon)."""
+    def reference_candidates(self, day: TripDay, strategy: Strategy, previous_shift: float) -> list[DayChoice]:
+        """The brute-force reference's choices for a day: no light, or one bright-light window of
+        each length in ``REFERENCE_WINDOW_HOURS`` starting anywhere in the anchor's ±12 h on a
+        ``REFERENCE_START_STEP_H`` grid, from a light box or (when allowed) daylight; no avoidance
+        and no sleep shift.  ``build`` fits each to sleep, flights, busy hours, the sun and the
+        daily caps, as for every plan."""
+        reach = ANCHOR_REACH.total_seconds() / 3600.0
+        starts = np.arange(-reach, reach, REFERENCE_START_STEP_H)
+        sources = ("light box", "daylight") if self.trip.light.daylight else ("light box",)
+        options = [DayChoice(sleep_shift_h=previous_shift)]
+        options += [DayChoice(float(start), hours, source, sleep_shift_h=previous_shift)
+                    for source in sources for hours in REFERENCE_WINDOW_HOURS for start in starts]
+        return options
+
+    def greedy(self, strategy: Strategy,
+               candidates: Callable[[TripDay, Strategy, float], list[DayChoice]] | None = None,
+               ) -> tuple[list[DayChoice], list[datetime | None], Outcome]:
+        """Day-by-day search with a one-day look-ahead (receding horizon).
+
+        ``candidates(day, strategy, previous_shift)`` lists a day's choices; default the search's
+        own (:meth:`_candidates`); :meth:`reference_candidates` gives the brute-force reference.
+        Choices that build the same plan are simulated once.
+        """
+        candidates = candidates or self._candidates
         base = self.baseline()
         anchors = self._anchors(base)
         choices = [DayChoice() for _ in self.days]
@@ -470,15 +541,16 @@ class TripPlanner:
             if settled is not None and day.index > arrival + settled:
                 break  # every later day already holds the target: no more light is prescribed
             previous_shift = choices[day.index - 1].sleep_shift_h if day.index else 0.0
-            options = self._candidates(day, strategy, previous_shift)
-            plans = []
+            options = candidates(day, strategy, previous_shift)
+            plans = {}
             for option in options:
                 trial = list(choices)
                 trial[day.index] = option
                 for later in range(day.index + 1, len(trial)):
                     if self.days[later].kind == "preparation":
                         trial[later] = DayChoice(sleep_shift_h=option.sleep_shift_h)
-                plans.append((trial, self.build(trial, anchors, strategy)))
+                plans.setdefault(self.build(trial, anchors, strategy), trial)   # first choice of each plan
+            plans = [(trial, plan) for plan, trial in plans.items()]
             outcomes = self.evaluator.evaluate([p for _, p in plans])
             horizon = min(day.index + 1, len(self.days) - 1)
             scores = [self._remaining(o, horizon, strategy, required, arrival) + self._burden(o) for o in outcomes]
@@ -601,6 +673,10 @@ class StrategyResult:
     #: The day choices and anchors the plan was built from (a start for further searches).
     choices: tuple = ()
     anchors: tuple = ()
+    #: Where the plan came from: "search" (greedy or refined) or "reference" (brute force).
+    origin: str = "search"
+    #: The brute-force reference plan at the validated step (None when it was not run).
+    reference: Outcome | None = None
 
 
 @dataclass(frozen=True)
@@ -639,15 +715,22 @@ class TripPlanResult:
 
 
 def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) -> StrategyResult:
-    """Greedy plan for one strategy, then global refinement; the better of the two."""
+    """Greedy plan for one strategy, its global refinement, and the brute-force reference
+    (:meth:`TripPlanner.reference_candidates`), all three simulated at the validated step; the
+    plan re-entraining soonest wins, then the lower score.  So the search never does worse than
+    the reference."""
     choices, anchors, greedy_outcome = planner.greedy(strategy)
     refined_choices, refined_outcome = planner.refine(strategy, choices, anchors, seed=seed)
     better = refined_outcome.score < greedy_outcome.score - 1e-9
-    outcome = refined_outcome if better else greedy_outcome
-    outcome = planner.evaluator.evaluate([outcome.plan], final=True)[0]   # reported at the validated step
-    return StrategyResult(strategy, outcome, greedy_outcome.score, better,
+    searched = (refined_choices, anchors, refined_outcome) if better else (choices, anchors, greedy_outcome)
+    reference = planner.greedy(strategy, planner.reference_candidates)
+    finals = planner.evaluator.evaluate([searched[2].plan, reference[2].plan], final=True)   # the validated step
+    pick = min((0, 1), key=lambda i: (_days_or_inf(finals[i]), finals[i].score, i))
+    picked_choices, picked_anchors, _ = (searched, reference)[pick]
+    return StrategyResult(strategy, finals[pick], greedy_outcome.score, better,
                           required_shift_h(planner.trip, planner.evaluator, strategy),
-                          tuple(refined_choices if better else choices), tuple(anchors))
+                          tuple(picked_choices), tuple(picked_anchors), "reference" if pick else "search",
+                          finals[1])
 
 
 def _days_or_inf(outcome: Outcome) -> float:

@@ -167,27 +167,32 @@ class LightSchedule:
             raise ScheduleError(f"background lux must be a finite number >= 0, got {background_lux}",
                                 field="background_lux")
         span = hours_between(start, end)
-        cuts = [0.0, span]
-        bounds = []
-        for layer in layers:
-            a = min(max(hours_between(start, layer.start), 0.0), span)
-            b = min(max(hours_between(start, layer.end), 0.0), span)
-            bounds.append((a, b))
-            cuts.extend((a, b))
-        edges = np.unique(np.asarray(cuts))
+        # Layer times are UTC (LightLayer converts them), so plain subtraction is elapsed time.
+        first = np.array([(layer.start - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
+        last = np.array([(layer.end - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
+        a = np.clip(first, 0.0, span)
+        b = np.clip(last, 0.0, span)
+        edges = np.unique(np.concatenate(([0.0, span], a, b)))
         edges = edges[np.concatenate(([True], np.diff(edges) > EDGE_TOLERANCE_H))]
         edges[-1] = span
         lefts, rights = edges[:-1], edges[1:]
         mids = 0.5 * (lefts + rights)
-        lux = np.full(mids.shape, float(background_lux))
-        for layer, (a, b) in zip(layers, bounds):
-            inside = (mids > a) & (mids < b)
-            if layer.kind == "set":
-                lux[inside] = layer.value
-            elif layer.kind == "at_least":
-                lux[inside] = np.maximum(lux[inside], layer.value)
+        # Applying the layers in order: a segment takes the value of the last "set" layer over it
+        # (or the background), then every later "at_least" / "scale" layer over it, in order.
+        inside = (mids[None, :] > a[:, None]) & (mids[None, :] < b[:, None])      # (layers, segments)
+        kinds = [layer.kind for layer in layers]
+        is_set = np.array([kind == "set" for kind in kinds], dtype=bool)
+        values = np.array([float(layer.value) for layer in layers])
+        order = np.arange(len(layers))[:, None]
+        last_set = np.max(np.where(inside & is_set[:, None], order, -1), axis=0, initial=-1)
+        lux = np.where(last_set >= 0, values[np.maximum(last_set, 0)] if len(layers) else 0.0,
+                       float(background_lux))
+        for index in np.nonzero(~is_set)[0]:
+            over = inside[index] & (last_set < index)
+            if kinds[index] == "at_least":
+                lux[over] = np.maximum(lux[over], values[index])
             else:
-                lux[inside] *= layer.value
+                lux[over] *= values[index]
         keep = np.concatenate(([True], lux[1:] != lux[:-1]))
         return cls(start, np.append(edges[:-1][keep], span), lux[keep])
 
@@ -266,9 +271,8 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
                    step_h: float) -> GridLight:
     """Sample schedules onto a common step grid from ``start`` to ``end``.
 
-    All schedules are handled in one vectorised pass: their edges are laid end
-    to end on one axis, schedule j shifted by j·width, so that one
-    :func:`numpy.searchsorted` serves the whole batch.
+    All schedules are handled in one vectorised pass over their edges laid end to
+    end: one :func:`numpy.searchsorted` places every edge on the grid.
 
     Raises
     ------
@@ -295,17 +299,6 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     column_of_edge = np.repeat(np.arange(size), counts)
     all_edges = np.concatenate(edges)
     all_lux = np.concatenate([schedule.lux for schedule in schedules])
-    origin = min(float(all_edges.min()), 0.0)
-    width = max(float(all_edges.max()), span) - origin + 1.0
-    keys = all_edges - origin + column_of_edge * width
-    first_lux = np.concatenate(([0], np.cumsum(counts - 1)))
-
-    def lux_at(column: np.ndarray, hours: np.ndarray) -> np.ndarray:
-        # Edge index within the stacked axis, minus one edge per earlier schedule = lux index.
-        index = np.searchsorted(keys, hours + EDGE_TOLERANCE_H - origin + column * width, side="right") - 1
-        index = np.clip(index - column, first_lux[column], first_lux[column + 1] - 1)
-        return all_lux[index]
-
     # Grid points per interval: the step starting at t_k takes the lux in force at t_k.
     below = np.searchsorted(lefts + EDGE_TOLERANCE_H, all_edges, side="left")
     last_edge = np.cumsum(counts) - 1
@@ -313,18 +306,22 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     below[last_edge - counts + 1] = 0
     points = np.delete(np.diff(below), last_edge[:-1])
     levels, interval_level = np.unique(all_lux, return_inverse=True)
-    level_index = np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T
+    level_index = np.ascontiguousarray(np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T)
     lux = levels[level_index]
 
-    interior = (all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H)
+    interior = np.nonzero((all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H))[0]
     inner, inner_column = all_edges[interior], column_of_edge[interior]
-    position = np.clip(np.searchsorted(times, inner), 1, times.size - 1)
-    off_grid = np.minimum(np.abs(times[position] - inner), np.abs(times[position - 1] - inner)) > EDGE_TOLERANCE_H
-    inner, inner_column = inner[off_grid], inner_column[off_grid]
+    # The grid is uniform but for a shorter last step, so an edge's step follows by division
+    # (an edge within round-off of a grid point may land on either side: it is on the grid).
+    step_of_edge = np.clip(np.floor(inner / step_h).astype(np.int64), 0, lefts.size - 1)
+    off_grid = np.minimum(inner - times[step_of_edge], times[step_of_edge + 1] - inner) > EDGE_TOLERANCE_H
+    inner, inner_column, step_of_edge = inner[off_grid], inner_column[off_grid], step_of_edge[off_grid]
+    # Lux of the interval an inner edge opens: interval index = edge index − column (one more
+    # edge than intervals per schedule).
+    opened_lux = all_lux[interior[off_grid] - inner_column]
     if inner.size == 0:
         return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)),
                          levels, level_index)
-    step_of_edge = np.searchsorted(times, inner, side="right") - 1
     group_key = inner_column * lefts.size + step_of_edge
     unique_keys, first, per_group = np.unique(group_key, return_index=True, return_counts=True)
     pieces = int(per_group.max()) + 1
@@ -335,8 +332,13 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     bounds = np.repeat(times[split_step + 1][:, None], pieces + 1, axis=1)
     bounds[:, 0] = times[split_step]
     bounds[group, rank + 1] = inner
-    starts = bounds[:, :-1]
-    split_lux = lux_at(np.repeat(split_column[:, None], pieces, axis=1), starts)
+    # Piece 0 has the lux in force at the step's start, piece r + 1 that of the r-th inner edge;
+    # unused pieces (length 0) repeat the last used one.
+    split_lux = np.repeat(lux[split_step, split_column][:, None], pieces, axis=1)
+    split_lux[group, rank + 1] = opened_lux
+    last_used = np.maximum.accumulate(np.where(np.arange(pieces)[None, :] <= per_group[:, None],
+                                               np.arange(pieces)[None, :], 0), axis=1)
+    split_lux = np.take_along_axis(split_lux, last_used, axis=1)
     return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux,
                      levels, level_index)
 

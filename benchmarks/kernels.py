@@ -1,0 +1,42 @@
+"""Running one benchmark step on each integrator kernel in the same process (shared by the benchmarks)."""
+
+from __future__ import annotations
+
+import os
+import time
+from contextlib import contextmanager
+from typing import Callable
+
+from planner.engine import kernel_numba
+from planner.engine.integrate import KERNEL_ENVIRONMENT
+
+
+@contextmanager
+def kernel(name: str):
+    """Every simulation inside the block runs on kernel ``name`` ("numpy" or "compiled")."""
+    before = os.environ.get(KERNEL_ENVIRONMENT)
+    os.environ[KERNEL_ENVIRONMENT] = name
+    try:
+        yield
+    finally:
+        if before is None:
+            os.environ.pop(KERNEL_ENVIRONMENT, None)
+        else:
+            os.environ[KERNEL_ENVIRONMENT] = before
+
+
+def timed(name: str, run: Callable[[], object]) -> tuple[float, object]:
+    """Wall time [s] of ``run()`` on kernel ``name``, and its result."""
+    with kernel(name):
+        began = time.perf_counter()
+        result = run()
+        return time.perf_counter() - began, result
+
+
+def announce() -> str:
+    """One line on the compiled kernel: threads and the first call's cost (compile or cache load)."""
+    if not kernel_numba.AVAILABLE:
+        return "compiled kernel unavailable (numba not installed): only the numpy path is timed"
+    report = kernel_numba.warm_up()
+    return (f"compiled kernel: {report.threads} threads; first call {report.seconds:.2f} s "
+            f"({'loaded from the cache' if report.from_cache else 'compiled'}), not in the times below")
