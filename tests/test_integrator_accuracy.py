@@ -4,7 +4,7 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, simulate, sleep
@@ -32,8 +32,14 @@ def demanding_schedule(lux, days=6, drift_h=0.37):
 def max_cbtmin_error_min(model, schedule, state):
     ours = cbtmin_times(simulate(model, schedule, state))[0]
     reference = reference_solution(model, schedule, state).cbtmin_h
-    assert ours.size == reference.size
-    return float(np.max(np.abs(ours - reference)) * 60.0)
+    # The reference reads the raw minimum of x, which can dip twice within minutes where a light edge meets the
+    # trough (found by hypothesis: a pulse ending 2 min before sleep); our marker removes the light drive and
+    # finds one minimum there. So each reference minimum must lie within an hour of one of ours (none missed,
+    # none extra), and the error is taken between nearest pairs.
+    assert ours.size and all(np.min(np.abs(ours - r)) < 1.0 for r in reference)
+    assert ours.size <= reference.size
+    nearest = np.array([reference[np.argmin(np.abs(reference - t))] for t in ours])
+    return float(np.max(np.abs(ours - nearest)) * 60.0)
 
 
 @pytest.fixture(scope="module")
@@ -52,6 +58,7 @@ def test_cbtmin_within_a_minute_of_dop853(name, lux, entrained_states):
 @settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.sampled_from(MODELS), st.floats(0.0, 24.0), st.floats(0.1, 3.0), st.floats(100.0, 100_000.0),
        st.floats(0.0, 24.0))
+@example("jewett1999", 4.44, 0.235, 6077.0, 5.0)   # a pulse ending 2 min before sleep, at the trough
 def test_random_pulses_stay_within_a_minute(name, pulse_h, hours, lux, bed_h):
     """Light at any hour, also in the biological night while CBTmin passes."""
     model = load_model(name)
