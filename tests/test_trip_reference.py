@@ -50,7 +50,7 @@ def test_the_search_never_loses_to_the_brute_force_reference(name, tmp_path):
         assert not reference.plan.avoid and reference.plan.bright
         assert all(w.end - w.start <= timedelta(hours=3) for w in reference.plan.bright)
         chosen = result.alternatives[strategy].outcome
-        # brute-force reference of issue 13 (greedy window start on a 15-min grid); no external source
+        # regression check against the brute-force reference (greedy window start on a 15-min grid); no external source
         assert days_or_inf(chosen) <= days_or_inf(reference), (strategy, chosen.reentrainment_days,
                                                                reference.reentrainment_days)
         assert result.alternatives[strategy].reference.reentrainment_days == reference.reentrainment_days

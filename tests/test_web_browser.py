@@ -143,7 +143,7 @@ def test_trip_in_the_browser(server, browser, downloads, shots):
     found = wait(browser, lambda d: [p for p in downloads.glob("*.ics")], 60)
     calendar = icalendar.Calendar.from_ical(found[0].read_bytes())   # icalendar, a reference parser from PyPI
     events = list(calendar.walk("VEVENT"))
-    assert events and all(event.get("UID") for event in events)
+    assert events and all(event.get("UID") for event in events)   # RFC 5545 §3.8.4.7: every event has a UID
     assert {str(c) for e in events for c in e.get("CATEGORIES").cats} >= {"Sleep"}
 
     browser.get(server + "/")
