@@ -117,7 +117,7 @@ def test_template_opens_in_openpyxl_and_plans_once_filled(tmp_path):
     assert result.exit_code == 0, result.stderr
     document = one_json_document(result.stdout)
     assert [r["draft"] for r in document["ranking"]] == ["draft 1"]
-    assert len(document["plan"]["days"]) == 14
+    assert len(document["days"]) == 14   # schema version 2: the chosen plan's days at the top level
 
 
 def test_template_is_written_once_without_force(tmp_path):

@@ -25,6 +25,7 @@ from typer.testing import CliRunner
 import planner.service
 from planner.cli import app as cli_app
 from planner.errors import InputError
+from planner.plans.entries import SCHEMA_VERSION as JSON_SCHEMA_VERSION
 from planner.web.app import Settings, create_app
 from planner.web.security import required_token
 from planner.web.store import DATABASE_NAME, SCHEMA_VERSION, PlanStore, migrate
@@ -112,7 +113,7 @@ def test_trip_form_plans_and_shows_recommendation_first(client, trip_plan):
                                               "Advance, delay or no plan", "Cautions")]
     assert order == sorted(order)
     document = client.get(f"/plans/{trip_plan['plan_id']}/plan.json").json()
-    assert document["schema_version"] == 1 and document["command"] == "trip"
+    assert document["schema_version"] == JSON_SCHEMA_VERSION and document["command"] == "trip"
     assert f"Recommended: {'advance' if document['strategy'] == 'advance' else ''}" in text or "Recommended:" in text
     assert document["reason"] in text.replace("&#39;", "'")
     assert client.get(f"/plans/{trip_plan['plan_id']}/chart.svg").headers["content-type"].startswith("image/svg+xml")

@@ -94,6 +94,7 @@ def shots(tmp_path_factory) -> Path:
 
 def screenshot(driver, folder: Path, name: str) -> Path:
     """A screenshot of the whole page; checked to show something (ink on a white page)."""
+    driver.set_window_size(1280, 800)   # measure the page itself, not the window the previous page needed
     height = driver.execute_script("return document.documentElement.scrollHeight")
     driver.set_window_size(1280, min(max(height + 120, 800), 6000))
     path = folder / f"{name}.png"

@@ -73,7 +73,10 @@ SETTINGS: dict[str, tuple[tuple[str, ...], str]] = {
     "commute minutes": (("workers", "commute_minutes"), "each way [min], 0..180 (default 30)"),
     "indoor lux": (("light", "indoor_lux"), "at home while awake [lux] (default 150)"),
     "work lux": (("light", "work_lux"), "at work [lux] (default 300)"),
-    "daylight lux": (("light", "daylight_lux"), "outdoors while the sun is up [lux] (default 10000)"),
+    "daylight lux": (("light", "daylight_lux"), "a cap on outdoor daylight [lux] (default: as the sky gives it)"),
+    "sky": (("light", "sky"), "the daylight model's sky: clear, partly or overcast (default overcast)"),
+    "daylight exposure": (("light", "daylight_exposure"), "outdoors in the open, in shade or behind a window: "
+                                                          "open, shade or window (default open)"),
     "night outdoor lux": (("light", "night_outdoor_lux"), "outdoors after dark [lux] (default 10)"),
     "light box": (("countermeasures", "light_box"), "a light box at work: yes or no (default yes)"),
     "box lux": (("countermeasures", "box_lux"), "[lux] at the eye (default 10000)"),
