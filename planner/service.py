@@ -795,6 +795,26 @@ __all__ = [
 
 # --------------------------------------------------------------------------- daylight and validation
 
+def daylight_site(place: str | None, latitude: float | None, longitude: float | None,
+                  time_zone: str | None) -> tuple[float, float, str, str | None]:
+    """(latitude, longitude, time zone, place name) of ``phaseplan daylight``: a place by name, or all three facts.
+
+    Raises
+    ------
+    InputError
+        Neither or both given, or the name unknown or ambiguous (the candidates are listed).
+    """
+    facts = (latitude, longitude, time_zone)
+    if place is not None:
+        if any(f is not None for f in facts):
+            raise InputError("give --place or --latitude, --longitude and --time-zone, not both", field="--place")
+        found = resolve_place(place)
+        return found.latitude, found.longitude, found.time_zone, found.name
+    if any(f is None for f in facts):
+        raise InputError("give --place NAME, or all of --latitude, --longitude and --time-zone", field="--place")
+    return float(latitude), float(longitude), str(time_zone), None
+
+
 def daylight_day(latitude: float, longitude: float, time_zone: str, day: str, *, skies: Sequence[str] = SKIES,
                  exposure: str = DEFAULT_EXPOSURE, step_minutes: float = 30.0) -> DayProfile:
     """Solar elevation and daylight at the eye through a local day (:func:`planner.world.daylight.day_profile`)."""
@@ -806,12 +826,12 @@ def daylight_day(latitude: float, longitude: float, time_zone: str, day: str, *,
                        exposure=exposure)
 
 
-def daylight_json(profile: DayProfile, time_zone: str) -> dict[str, Any]:
+def daylight_json(profile: DayProfile, time_zone: str, name: str | None = None) -> dict[str, Any]:
     """The JSON document of ``phaseplan daylight --json`` (without ``schema_version``)."""
     model = load_daylight_model()
     return {
         "command": "daylight",
-        "place": {"latitude": profile.latitude, "longitude": profile.longitude, "time_zone": time_zone},
+        "place": {"name": name, "latitude": profile.latitude, "longitude": profile.longitude, "time_zone": time_zone},
         "date": profile.day.isoformat(),
         "exposure": profile.exposure,
         "model": {"id": model.id, "citation": model.citation, "doi": model.doi},

@@ -10,6 +10,7 @@ import json
 from datetime import datetime
 
 import astral
+import astral.geocoder
 import astral.sun
 import pytest
 from typer.testing import CliRunner
@@ -97,3 +98,25 @@ def test_daylight_bad_zone_is_one_error_line():
     assert result.exit_code == 2
     assert len([x for x in result.stderr.splitlines() if x.strip()]) == 1
     assert "Mars/Olympus" in result.stderr
+
+
+def test_daylight_by_place_name_matches_astrals_city_and_sun():
+    doc = document(run("daylight", "--place", "Tokyo", "--date", "2027-03-12", "--step", "60", "--json"))
+    city = astral.geocoder.lookup("Tokyo", astral.geocoder.database())
+    place = doc["place"]
+    # astral's city database (reference library): Tokyo's coordinates and zone
+    assert place["name"] == "Tokyo" and place["time_zone"] == city.timezone
+    assert place["latitude"] == pytest.approx(city.latitude, abs=0.5)
+    assert place["longitude"] == pytest.approx(city.longitude, abs=0.5)
+    noon = next(row for row in doc["rows"] if row["time"][11:16] == "12:00")
+    observer = astral.Observer(place["latitude"], place["longitude"])
+    assert noon["solar_elevation_deg"] == pytest.approx(
+        astral.sun.elevation(observer, datetime.fromisoformat(noon["time"]), with_refraction=False), abs=0.05)
+
+
+@pytest.mark.parametrize("args", [("--place", "Portland"), (), ("--place", "Tokyo", "--latitude", "35")])
+def test_daylight_needs_one_unambiguous_place(args):
+    # an ambiguous name lists its candidates; a place and coordinates together are refused (the command's rule)
+    result = run("daylight", *args, "--date", "2027-03-12")
+    assert result.exit_code == 2 and len([x for x in result.stderr.splitlines() if x.strip()]) == 1
+    assert "--place" in result.stderr or "Portland, US-OR" in result.stderr

@@ -34,13 +34,16 @@ class ExposureChoice(str, Enum):
     "model with the NOAA sun position): clear, partly cloudy and overcast skies, outdoors in the open, in shade or "
     "behind a window."))
 def daylight_command(
-    latitude: Annotated[float, typer.Option("--latitude", min=-90.0, max=90.0,
-                                            help="Latitude, north positive [deg].")],
-    longitude: Annotated[float, typer.Option("--longitude", min=-180.0, max=180.0,
-                                             help="Longitude, east positive [deg].")],
-    time_zone: Annotated[str, typer.Option("--time-zone", metavar="ZONE",
-                                           help="IANA time zone of the clock to show, e.g. Asia/Tokyo.")],
     day: Annotated[str, typer.Option("--date", metavar="YYYY-MM-DD", help="Local date.")],
+    place: Annotated[str | None, typer.Option("--place", metavar="NAME", help=(
+        'A town by name, e.g. "Tokyo" or "Portland, US-OR" (see phaseplan places); or give latitude, longitude '
+        "and time zone."))] = None,
+    latitude: Annotated[float | None, typer.Option("--latitude", min=-90.0, max=90.0,
+                                                   help="Latitude, north positive [deg].")] = None,
+    longitude: Annotated[float | None, typer.Option("--longitude", min=-180.0, max=180.0,
+                                                    help="Longitude, east positive [deg].")] = None,
+    time_zone: Annotated[str | None, typer.Option("--time-zone", metavar="ZONE",
+                                                  help="IANA time zone of the clock to show, e.g. Asia/Tokyo.")] = None,
     sky: Annotated[SkyChoice, typer.Option("--sky", case_sensitive=False,
                                            help="Sky type to show (all: the three side by side).")] = SkyChoice.all,
     exposure: Annotated[ExposureChoice, typer.Option(
@@ -52,14 +55,15 @@ def daylight_command(
 ) -> None:
     """Daylight through a day (help text on the decorator)."""
     skies = SKIES if sky == SkyChoice.all else (sky.value,)
+    latitude, longitude, time_zone, name = service.daylight_site(place, latitude, longitude, time_zone)
     profile = service.daylight_day(latitude, longitude, time_zone, day, skies=skies, exposure=exposure.value,
                                    step_minutes=step)
     if json_out:
-        emit_json(service.daylight_json(profile, time_zone))
+        emit_json(service.daylight_json(profile, time_zone, name))
         return
     model = load_daylight_model()
     table = Table(box=box.SIMPLE_HEAD, title=f"Daylight at the eye, {profile.day.isoformat()} "
-                  f"({latitude:.2f}°, {longitude:.2f}°, {escape(time_zone)}), {exposure.value}", title_justify="left",
+                  f"({escape(name + ', ') if name else ''}{latitude:.2f}°, {longitude:.2f}°, {escape(time_zone)}), {exposure.value}", title_justify="left",
                   caption=f"{escape(model.citation)}; NOAA sun position. Model means, not measurements: a real "
                           "sky varies from half to twice these values.", caption_justify="left")
     table.add_column("time", no_wrap=True)
