@@ -143,6 +143,15 @@ def test_no_window_is_shorter_than_a_quarter_hour(every_plan):
                 assert window.minutes >= 15 - 1e-6, (key, strategy, window)
 
 
+def test_every_window_starts_and_ends_on_a_whole_minute(every_plan):
+    # a clock shows whole minutes (common practice): table, JSON and calendar then show one and the same time
+    for key, (_, _, result) in every_plan.items():
+        for strategy, outcome in light_plans(result):
+            for window in outcome.plan.bright + outcome.plan.avoid:
+                assert window.start.second == window.end.second == 0, (key, strategy, window)
+                assert window.start.microsecond == window.end.microsecond == 0, (key, strategy, window)
+
+
 def test_no_dark_glasses_after_sunset_or_before_sunrise(every_plan):
     # Sun times from astral (NOAA algorithm, an independent implementation); dark glasses in the dark
     # are a hazard on the road and on foot (common practice; the plan's own caution).

@@ -380,6 +380,8 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     if best is None:
         return None
     s, e = best
+    # sunrise, sunset and busy hours fall between minutes: keep to the whole minutes inside them
+    s, e = _whole_minute(s, up=True), _whole_minute(e, up=False)
     e = min(e, s + timedelta(minutes=cap))
     if hours_between(s, e) * 60.0 < MIN_WINDOW_MINUTES:   # also a cap of 0: that source is not available
         return None
@@ -758,6 +760,12 @@ class TripPlanResult:
     citations: list
 
 
+def _whole_minute(moment: datetime, *, up: bool) -> datetime:
+    """``moment`` moved to the whole minute after it (``up``) or before it."""
+    floor = moment.replace(second=0, microsecond=0)
+    return floor + timedelta(minutes=1) if up and floor < moment else floor
+
+
 def _clipped_to_lobes(windows: Sequence[Window], cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"],
                       strategy: Strategy) -> tuple[Window, ...]:
     """Each window cut to its lobe of the nearest simulated CBTmin; pieces under ``MIN_WINDOW_MINUTES`` dropped."""
@@ -767,7 +775,12 @@ def _clipped_to_lobes(windows: Sequence[Window], cbtmins: Sequence[datetime], ki
         start, end = window.start, window.end
         if anchor is not None:
             lo, hi = lobe(anchor, kind, strategy)
-            start, end = max(start, lo), min(end, hi)
+            # a cut at a simulated CBTmin falls between minutes: move it inward to a whole minute, so the
+            # window stays in its lobe and every rendering (table, JSON, calendar) shows the same clock time
+            if lo > start:
+                start = _whole_minute(lo, up=True)
+            if hi < end:
+                end = _whole_minute(hi, up=False)
         if hours_between(start, end) * 60.0 >= MIN_WINDOW_MINUTES - 1e-6:
             kept.append(window if (start, end) == (window.start, window.end)
                         else Window(start, end, window.lux, window.source))
