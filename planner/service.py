@@ -176,14 +176,14 @@ def file_kind(path: str | Path) -> FileKind:
     return "roster" if isinstance(data, dict) and data.get("kind") == "roster" else "trip"
 
 
-def _model_problems(name: str, source: str, field: str = "model") -> list[Problem]:
+def _scenario_model(name: str, source: str, field: str = "model") -> tuple[ModelSpec | None, list[Problem]]:
+    """The model a scenario names, loaded and checked once, or the problems that stop it (model None)."""
     try:
-        load_checked_model(name)
+        return load_checked_model(name), []
     except InputFileError as exc:
-        return list(exc.problems)
+        return None, list(exc.problems)
     except InputError as exc:
-        return [Problem(exc.source or source, exc.field or field, exc.message)]
-    return []
+        return None, [Problem(exc.source or source, exc.field or field, exc.message)]
 
 
 def _check_trip(path: str) -> CheckReport:
@@ -191,7 +191,7 @@ def _check_trip(path: str) -> CheckReport:
         trip, info = load_trip(path)
     except InputFileError as exc:
         return CheckReport(path, "trip", tuple(exc.problems))
-    problems = _model_problems(info.model, path)
+    _, problems = _scenario_model(info.model, path)
     person = info.person
     if not problems and person.light_log is not None:
         try:
@@ -229,10 +229,10 @@ def _check_roster(path: str) -> CheckReport:
         roster, info = load_any_roster(path)
     except InputFileError as exc:
         return CheckReport(path, "roster", tuple(exc.problems))
-    problems = _model_problems(info.model, path)
+    model, problems = _scenario_model(info.model, path)
     if problems:
         return CheckReport(path, "roster", tuple(problems))
-    return CheckReport(path, "roster", (), roster_export.check_summary(roster, info, load_model(info.model)))
+    return CheckReport(path, "roster", (), roster_export.check_summary(roster, info, model))
 
 
 def _check_model(path: str) -> CheckReport:
