@@ -777,7 +777,7 @@ class PrcOutcome:
         }
 
 
-def prc(model: str = "forger1999", *, hours: float = 6.7, lux: float = 10_000.0, background: float = 10.0,
+def prc(model: str = DEFAULT_MODEL, *, hours: float = 6.7, lux: float = 10_000.0, background: float = 10.0,
         step: float = 1.0) -> PrcOutcome:
     """The single-pulse phase response curve of a model (protocol in :mod:`planner.engine.prc`)."""
     spec = load_checked_model(model)

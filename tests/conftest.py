@@ -68,8 +68,8 @@ def entrained_states() -> dict[str, np.ndarray]:
 
 @pytest.fixture(scope="session")
 def planned_demos() -> Callable[[str], tuple]:
-    """``get(name) -> (trip, info, TripPlanResult)``: a shipped demo trip planned with forger1999 and the
-    auto strategy, at most once per test session (planning a demo takes seconds)."""
+    """``get(name) -> (trip, info, TripPlanResult)``: a shipped demo trip planned with the model its file names
+    and the auto strategy, at most once per test session (planning a demo takes seconds)."""
     from planner.trips.scenario import demo_path, load_trip
     from planner.trips.search import plan_trip
 
@@ -78,7 +78,7 @@ def planned_demos() -> Callable[[str], tuple]:
     def get(name: str) -> tuple:
         if name not in cache:
             trip, info = load_trip(demo_path(name))
-            cache[name] = (trip, info, plan_trip(trip, load_model("forger1999")))
+            cache[name] = (trip, info, plan_trip(trip, load_model(info.model)))
         return cache[name]
 
     return get

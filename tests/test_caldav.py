@@ -227,7 +227,7 @@ def test_published_events_carry_their_cautions_to_the_server(collection, tokyo_c
     text = about.description.value
     for key in TRIP_CAUTIONS:
         assert CAUTIONS[key].text in text, key
-    assert "doi:10.1177/074873099129000867" in text   # Forger, Jewett & Kronauer 1999, J Biol Rhythms 14:533
+    assert "doi:10.1177/074873049901400608" in text   # Jewett, Forger & Kronauer 1999, J Biol Rhythms 14:493
     for event in stored.values():
         if event is about:
             continue

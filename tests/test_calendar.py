@@ -45,13 +45,13 @@ def tokyo(planned_demos):
 
 @pytest.fixture
 def stored_plans(planned_demos, monkeypatch):
-    """Let the CLI reuse the session's plans for the same demo trip (auto strategy, forger1999)."""
+    """Let the CLI reuse the session's plans for the same demo trip (auto strategy, the file's own model)."""
     real = planner.service.search_trip
 
     def stand_in(trip, model, strategy="auto", **kwargs):
         for name in (EAST_DEMO, SHORT_DEMO):
-            stored_trip, _, result = planned_demos(name)
-            if stored_trip == trip and strategy == "auto" and model.id == "forger1999":
+            stored_trip, info, result = planned_demos(name)
+            if stored_trip == trip and strategy == "auto" and model.id == info.model:
                 return result
         return real(trip, model, strategy, **kwargs)
 
@@ -296,7 +296,7 @@ def test_descriptions_carry_action_light_reason_and_caution(tokyo):
     whole = str(calendar.get("DESCRIPTION"))
     for key in TRIP_CAUTIONS:
         assert CAUTIONS[key].text in whole
-    assert "doi:10.1177/074873099129000867" in whole  # Forger, Jewett & Kronauer 1999, J Biol Rhythms 14:533
+    assert "doi:10.1177/074873049901400608" in whole  # Jewett, Forger & Kronauer 1999, J Biol Rhythms 14:493
 
 
 def test_alarm_minutes_and_no_alarms():

@@ -172,7 +172,7 @@ def test_check_keeps_its_contract_on_mutated_files(tmp_path, base, choice, value
 
 
 def test_a_model_reference_too_long_for_a_file_name_is_one_line(tmp_path):
-    path = edited(tmp_path, "lisbon-tokyo.toml", 'model = "forger1999"', f'model = "{"x" * 500}.toml"')
+    path = edited(tmp_path, "lisbon-tokyo.toml", 'model = "jewett1999"', f'model = "{"x" * 500}.toml"')
     line = assert_one_line_error(run("check", str(path)))
     # NAME_MAX is 255 bytes on common file systems (POSIX limits.h): such a name can be no model file
     assert "model" in line

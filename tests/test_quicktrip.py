@@ -11,6 +11,7 @@ import pytest
 from typer.testing import CliRunner
 
 from planner.cli import app
+from planner.scenariofile import DEFAULT_MODEL
 from planner.trips.quick import load_quick_trip, parse_sleep, quick_trip_scenario
 from planner.trips.scenario import load_trip
 from tests.test_cli import assert_one_line_error, one_json_document
@@ -21,11 +22,12 @@ QUICK = ["--from", "Sydney", "--to", "London, GB", "--depart", "2027-03-10 15:00
          "--stay", "5"]
 README = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
 
-#: The same trip written by hand as a scenario file, with the places by name.
-EQUIVALENT_TOML = """\
+#: The same trip written by hand as a scenario file, with the places by name and the default model named.
+EQUIVALENT_TOML = f"""\
 kind = "trip"
 name = "Sydney to London"
-model = "forger1999"
+model = "{DEFAULT_MODEL}"
+""" + """\
 
 [traveller]
 sleep = { bed = "23:00", wake = "07:00" }
@@ -68,6 +70,8 @@ def test_quick_trip_plans_as_the_equivalent_file_and_save_round_trips(tmp_path):
     file_doc = one_json_document(from_file.stdout)
     # The same days, windows, CBTmin and comparison: nothing in the plan depends on how the trip was given.
     assert _plan_part(quick_doc) == _plan_part(file_doc)
+    # a quick trip plans with the default model, as a file naming none would (README "Quick trips")
+    assert quick_doc["model"]["id"] == DEFAULT_MODEL
     # Sydney -> London in March is 11 h west (AEDT +11 to GMT, IANA tz database).
     assert quick_doc["clock_change_h"] == pytest.approx(-11.0)
 

@@ -85,7 +85,7 @@ def test_report_holds_the_plan_comparison_cautions_and_citations(vancouver, vanc
     assert "delay ✓ recommended" in vancouver_html  # nine hours west: the plan delays (see test_trip.py)
     for key in TRIP_CAUTIONS:
         assert html.escape(CAUTIONS[key].text, quote=True) in vancouver_html
-    assert "doi:10.1177/074873099129000867" in vancouver_html  # Forger, Jewett & Kronauer 1999, J Biol Rhythms 14:533
+    assert "doi:10.1177/074873049901400608" in vancouver_html  # Jewett, Forger & Kronauer 1999, J Biol Rhythms 14:493
 
 
 def test_user_text_is_escaped():

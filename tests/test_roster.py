@@ -11,6 +11,7 @@ from typer.testing import CliRunner
 
 from planner import load_model
 from planner.cli import app
+from planner.scenariofile import DEFAULT_MODEL
 from planner.rosters.model import Draft, Roster, ShiftType, roster_days
 from planner.rosters.scenario import load_roster
 from planner.rosters.search import plan_for, plan_roster
@@ -64,7 +65,7 @@ def test_minimal_roster_file_loads(tmp_path):
     assert roster.drafts[0].days == 16          # 8-day pattern × 2 cycles (arithmetic)
     assert roster.shift("N").kind == "night"    # Directive 2003/88/EC: >= 3 h in 00:00-05:00 (from memory)
     assert roster.shift("D").kind == "day"
-    assert info.model == "forger1999"
+    assert info.model == DEFAULT_MODEL          # a file naming no model gets the default (README)
 
 
 BAD_INPUTS = [

@@ -56,12 +56,12 @@ def demo_plans(planned_demos):
 
 @pytest.fixture
 def stored_plans(demo_plans, monkeypatch):
-    """Let the CLI reuse the module's plans for the same trip (auto strategy, forger1999)."""
+    """Let the CLI reuse the module's plans for the same trip (auto strategy, the file's own model)."""
     real = planner.service.search_trip
 
     def stand_in(trip, model, strategy="auto", **kwargs):
-        for stored_trip, _, result in demo_plans.values():
-            if stored_trip == trip and strategy == "auto" and model.id == "forger1999":
+        for stored_trip, info, result in demo_plans.values():
+            if stored_trip == trip and strategy == "auto" and model.id == info.model:
                 return result
         return real(trip, model, strategy, **kwargs)
 
@@ -321,10 +321,10 @@ def test_demo_json_carries_the_plan(stored_plans):
     for key in ("model", "citations", "strategy", "reentrainment_days", "success", "message", "reason", "baseline",
                 "alternatives", "days", "simulated", "cautions"):
         assert key in document, key
-    assert document["command"] == "demo" and document["model"]["id"] == "forger1999"
-    # the model's published DOI (Forger, Jewett & Kronauer 1999, J Biol Rhythms 14:533)
-    assert "10.1177/074873099129000867" in document["model"]["citation"]
-    assert document["citations"][0]["doi"] == "10.1177/074873099129000867"
+    assert document["command"] == "demo" and document["model"]["id"] == "jewett1999"
+    # the model's published DOI (Jewett, Forger & Kronauer 1999, J Biol Rhythms 14:493)
+    assert "10.1177/074873049901400608" in document["model"]["citation"]
+    assert document["citations"][0]["doi"] == "10.1177/074873049901400608"
     assert document["strategy"] == plan.strategy and document["success"] is plan.success
     assert document["reentrainment_days"] == plan.recommended.outcome.reentrainment_days
     assert document["simulated"] == plan.simulated > 0
@@ -356,7 +356,7 @@ def test_demo_json_carries_the_plan(stored_plans):
     # the papers' own bibliographic data (CNS Spectrums 10(8); PNAS 113(1):176-181)
     assert any(s.startswith("Terman M, Terman JS 2005") and "CNS Spectrums" in s for s in sources)
     assert any(s.startswith("Lee ML et al. 2016") and "PNAS 113(1):176" in s for s in sources)
-    # forger1999 advances 2.3 h in 3 gradual days where 1.4-1.9 h was measured (Eastman et al. 2005, Sleep
+    # jewett1999 advances 2.5 h in 3 gradual days where 1.4-1.9 h was measured (Eastman et al. 2005, Sleep
     # 28:33; regression snapshot, measured here): the demo's preparation days are flagged optimistic.
     note = document["preparation_days_note"]
     assert trip.preparation_days > 0 and note["optimistic"] and note["model_advance_h"] > 1.9

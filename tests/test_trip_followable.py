@@ -254,11 +254,11 @@ def test_no_user_facing_text_says_avoid_light():
 def stored_demo(planned_demos, monkeypatch):
     """Let the CLI reuse the session's plan of the default demo instead of planning it again."""
     from planner.trips.scenario import DEFAULT_DEMO
-    stored_trip, _, stored = planned_demos(DEFAULT_DEMO)
+    stored_trip, info, stored = planned_demos(DEFAULT_DEMO)
     real = planner.service.search_trip
 
     def stand_in(trip, model, strategy="auto", **kwargs):
-        if trip == stored_trip and strategy == "auto" and model.id == "forger1999":
+        if trip == stored_trip and strategy == "auto" and model.id == info.model:
             return stored
         return real(trip, model, strategy, **kwargs)
 

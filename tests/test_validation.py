@@ -7,7 +7,9 @@ tests/test_trip.py); here they are checked as the command reports them.
 from __future__ import annotations
 
 import json
+import math
 from datetime import datetime
+from pathlib import Path
 
 import astral
 import astral.geocoder
@@ -15,9 +17,11 @@ import astral.sun
 import pytest
 from typer.testing import CliRunner
 
+from planner import service
 from planner.cli import app
 from planner.plans.entries import SCHEMA_VERSION
 from planner.engine.validation import Check, Validation, optimistic_preparation, recommended_default
+from planner.scenariofile import DEFAULT_MODEL
 
 
 def run(*args: str):
@@ -120,3 +124,61 @@ def test_daylight_needs_one_unambiguous_place(args):
     result = run("daylight", *args, "--date", "2027-03-12")
     assert result.exit_code == 2 and len([x for x in result.stderr.splitlines() if x.strip()]) == 1
     assert "--place" in result.stderr or "Portland, US-OR" in result.stderr
+
+
+# --------------------------------------------------------------------------- the default model and the README's table
+
+README = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+
+
+@pytest.fixture(scope="module")
+def full_table():
+    """Every check for every built-in model, as ``phaseplan models validate`` runs it (about 20 s)."""
+    return service.validate_models()
+
+
+def test_the_default_model_is_the_one_the_validation_table_ranks_first(full_table):
+    # The default is chosen from the published checks (README "Validation table"): if a change to a model or a
+    # check moves another model to the top, the default and the README's reason must be revisited.
+    assert full_table.recommended == DEFAULT_MODEL
+    assert full_table.to_json()["current_default"] == DEFAULT_MODEL
+
+
+def _table_cells(validation) -> list[str]:
+    """The README table's cells for one model, formatted as the README prints them."""
+    value = {c.quantity: c.model for c in validation.checks}
+
+    def signed(x: float) -> str:
+        return f"{x:+.2f}".replace("-", "−")
+
+    def clock_of(hours: float) -> str:
+        minutes = round(hours * 60) % (24 * 60)
+        return f"{minutes // 60:02d}:{minutes % 60:02d}"
+
+    def shift(x: float) -> str:
+        return f"{x:.2f}" if math.isfinite(x) else "no DLMO found"
+
+    return [f"{value['PRC peak-to-trough, 6.7-h pulse [h]']:.2f}",
+            f"{signed(value['largest advance [h]'])} / {signed(value['largest delay [h]'])}",
+            f"{value['largest shift of a 1-h pulse [h]']:.2f}",
+            f"{value['half-maximal delay (ED50) [lux]']:.0f}",
+            f"{value['3-day gradual pre-flight advance [h]']:.2f}",
+            f"{clock_of(value['DLMO after a treated week of nights [clock h]'])} / "
+            f"{clock_of(value['DLMO after an untreated week of nights [clock h]'])}",
+            f"{shift(value['DLMO delay, light 23:00-03:00 [h]'])} / {shift(value['DLMO advance, light 03:00-07:00 [h]'])}",
+            f"{validation.agreeing} of {len(validation.checks)}"]
+
+
+def test_readme_validation_table_is_the_programs(full_table):
+    # regression snapshot (measured here): the README's validation table shows what the command computes, so the
+    # reason given there for the default model stays true
+    header = next(line for line in README.splitlines() if line.startswith("| check | published |"))
+    columns = [cell.strip() for cell in header.strip("|").split("|")][2:]
+    rows = README[README.index(header):].splitlines()[2:10]
+    shown = [[cell.strip() for cell in row.strip("|").split("|")][2:] for row in rows]
+    by_model = {v.model_id: _table_cells(v) for v in full_table.validations}
+    assert sorted(columns) == sorted(by_model)
+    for k, model in enumerate(columns):
+        assert [row[k] for row in shown] == by_model[model], model
+    # the README names the default and why (most checks agreeing)
+    assert f"default model is **{DEFAULT_MODEL}**" in README

@@ -82,10 +82,16 @@ def test_old_names_are_gone_and_the_schema_is_version_2(documents):
 
 def test_one_sign_for_phase_shifts(documents):
     trip, _ = documents
-    # one convention, as in a phase response curve (+ advance): a west-bound trip delays (Khalsa et al. 2003)
+    # one convention, as in a phase response curve (+ advance): a west-bound trip's delay plan moves the clock
+    # later, a negative shift (Khalsa et al. 2003, J Physiol 549:945)
     assert "+ for an advance" in trip["conventions"]["net_phase_shift_h"]
-    delay = [entry for entry in walk(trip, "alternatives.*") if entry["direction"] == "delay"]
-    assert delay and all(entry["net_phase_shift_h"] < 0 for entry in delay)
+    assert trip["alternatives"]["delay"]["net_phase_shift_h"] < 0
+    for entry in [trip["baseline"], *walk(trip, "alternatives.*")]:
+        shift = entry["net_phase_shift_h"]
+        assert {"advance": shift > 0, "delay": shift < 0, "none": abs(shift) < 1.0}[entry["direction"]]
+        # the words say the same as the number: "(net -0.6 h)" for a clock 0.6 h later (arithmetic)
+        stated = re.search(r"\(net ([+-]\d+\.\d) h\)", entry["movement"])
+        assert stated is None or float(stated.group(1)) == pytest.approx(shift, abs=0.051)
 
 
 def test_numbers_are_rounded_to_meaningful_precision(documents):

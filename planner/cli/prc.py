@@ -25,6 +25,7 @@ from planner.cli.common import (
 from planner.engine.entrainment import DEFAULT_DAY
 from planner.engine.prc import DEFAULT_MEASURE_AFTER_DAYS
 from planner.plans.entries import clock, describe_pattern, lux_text
+from planner.scenariofile import DEFAULT_MODEL
 
 #: Half-width of the PRC table's text bar [characters].
 BAR_WIDTH = 12
@@ -43,7 +44,7 @@ def _bar(shift: float, scale: float) -> str:
     "one pulse per run; the shift is the unpulsed control's CBTmin minus the pulsed CBTmin, read days after "
     "the pulse (+ advance, − delay)."))
 def prc(
-    model_name: ModelOption = "forger1999",
+    model_name: ModelOption = DEFAULT_MODEL,
     hours: Annotated[float, typer.Option("--hours", metavar="H",
                                          help="Pulse duration in hours (0 < H ≤ 16).")] = 6.7,
     lux: Annotated[float, typer.Option("--lux", metavar="L", help="Pulse illuminance at the eye, in lux.")] = 10_000.0,

@@ -181,6 +181,7 @@ def _print_roster(console: Console, planned: service.RosterOutcome) -> None:
         table.add_row(day.date.strftime("%a %d %b"), shift, sleep, "\n".join(light) or NONE_TEXT, cbt,
                       f"{view.work_low_h:.1f}" if day.work is not None else NONE_TEXT)
     console.print(table)
+    _print_crew_sleepiness(console, planned)
 
     console.print(f"[bold]CBTmin against shifts and sleep[/bold] (noon to noon, 30-min cells; {chart_legend()})")
     for line in text_chart(roster, views):
@@ -241,6 +242,47 @@ def _sleepy_cells(d: DraftResult) -> tuple[str, str]:
     brief = sleepview.summary(d.days, sleepiness)
     return (f"{brief['hours_at_kss_7_or_more_per_week']:.1f}",
             f"{brief['sleepy_drives_home']} of {brief['drives_home']}")
+
+
+def _print_crew_sleepiness(console: Console, planned: service.RosterOutcome) -> None:
+    """One line per crew: the sleepiness forecast of its own shifts (each crew works the pattern from another day)."""
+    crews = {name: crew for name, crew in planned.crews.items() if crew.sleepiness is not None}
+    if not crews:
+        return
+    table = Table(box=box.SIMPLE_HEAD, title=f"Sleepiness by crew: {escape(planned.chosen.draft.name)} (average worker)",
+                  title_justify="left", caption_justify="left",
+                  caption=("KSS: Karolinska Sleepiness Scale 1-9, three-process model of alertness; KSS≥7: hours at "
+                           "work at KSS 7 or more per week; sleepiest shift: its highest KSS and the time of its "
+                           "lowest alertness. A population forecast, not a fitness-for-duty test."))
+    spread = any(crew.population_sleepiness for crew in crews.values())
+    workers = planned.request.workers
+    headers = ["crew", "KSS≥7 h/wk", "sleepiest shift", "sleepy drives home"]
+    if spread:
+        headers.append(f"KSS≥7 h/wk, median [p10–p90] of {workers}")
+    for header in headers:
+        table.add_column(header, no_wrap=header != "sleepiest shift")
+    zone = planned.roster.site.zone
+    for name, crew in crews.items():
+        brief = sleepview.summary(crew.days, crew.sleepiness)
+        worst = sleepview.sleepiest_shift(sleepview.shift_rows(crew.days, crew.sleepiness, crew.days[0].start, zone))
+        where = NONE_TEXT if worst is None else (
+            f"{datetime.fromisoformat(worst['date']).strftime('%a %d %b')} {escape(worst['shift'])}: KSS "
+            f"{worst['peak_kss']:.1f}" + (f" around {worst['lowest_at'][11:16]}" if worst["lowest_at"] else ""))
+        hours = brief["hours_at_kss_7_or_more_per_week"]
+        cells = [escape(name), NONE_TEXT if hours is None else f"{hours:.1f}", where,
+                 f"{brief['sleepy_drives_home']} of {brief['drives_home']}"]
+        if spread:
+            cells.append(_percentiles(crew.population_sleepiness, "hours_at_kss_7_or_more_per_week"))
+        table.add_row(*cells)
+    console.print(table)
+
+
+def _percentiles(population: dict | None, key: str) -> str:
+    """``median [p10–p90]`` of one of a population's sleepiness numbers; — when not simulated."""
+    values = (population or {}).get(key) or {}
+    if any(values.get(p) is None for p in ("p10", "median", "p90")):
+        return NONE_TEXT
+    return f"{values['median']:.1f} [{values['p10']:.1f}–{values['p90']:.1f}]"
 
 
 def _source(window: Window) -> str:

@@ -93,8 +93,9 @@ def sleepiness_entry(days, sleepiness, zone) -> dict[str, Any] | None:
     """A plan's sleepiness forecast: a summary and one row per shift (:mod:`planner.rosters.sleepiness`)."""
     if sleepiness is None:
         return None
-    return {"summary": sleepview.summary(days, sleepiness),
-            "shifts": sleepview.shift_rows(days, sleepiness, days[0].start, zone)}
+    shifts = sleepview.shift_rows(days, sleepiness, days[0].start, zone)
+    return {"summary": {**sleepview.summary(days, sleepiness), "sleepiest_shift": sleepview.sleepiest_shift(shifts)},
+            "shifts": shifts}
 
 
 def population_entry(result: DraftResult, roster: Roster) -> dict[str, Any] | None:
@@ -167,10 +168,13 @@ def day_entry(roster: Roster, view: RosterDayView) -> dict[str, Any]:
 
 
 def crews_entry(roster: Roster, crews: dict) -> dict[str, Any] | None:
-    """Each crew's own days (its shifts, sleeps, light and predicted markers), by crew name; None without crews."""
+    """Each crew's own days (its shifts, sleeps, light and predicted markers) and the sleepiness forecast of its
+    own shifts, by crew name; None without crews."""
     if not crews:
         return None
-    return {name: {"draft": crew.draft.name, "days": [day_entry(roster, view) for view in crew.views]}
+    return {name: {"draft": crew.draft.name, "days": [day_entry(roster, view) for view in crew.views],
+                   "sleepiness": sleepiness_entry(crew.days, crew.sleepiness, roster.site.zone),
+                   "population_sleepiness": crew.population_sleepiness}
             for name, crew in crews.items()}
 
 

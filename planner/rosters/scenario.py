@@ -8,7 +8,7 @@ Layout (``[light]`` and ``[countermeasures]`` are optional; the values shown are
     kind = "roster"
     name = "Harbour crane crew B"
     description = "..."
-    model = "forger1999"                   # a built-in id or a model file (relative to this file)
+    model = "jewett1999"                   # a built-in id or a model file (relative to this file)
     start_date = "2027-03-01"              # first day of every draft (local date at the site)
 
     [site]

@@ -50,6 +50,7 @@ from planner.errors import InputError
 from planner.world.localtime import parse_clock
 from planner.rosters.model import Roster
 from planner.rosters.scenario import OFF, RosterFile, RosterInfo, build_roster
+from planner.scenariofile import DEFAULT_MODEL
 from planner.tomlfile import InputFileError, Problem, describe_error
 
 #: File types read.
@@ -629,7 +630,7 @@ def template_workbook(start: date | None = None, days: int = TEMPLATE_DAYS) -> b
     settings.append(["# Each other sheet is one draft rotation: one row per crew, one column per date, a shift "
                      "code or off (empty = off) in each cell."])
     settings.append([])
-    defaults = {"sleep hours": 7.5, "commute minutes": 30, "crew size": 1, "model": "forger1999"}
+    defaults = {"sleep hours": 7.5, "commute minutes": 30, "crew size": 1, "model": DEFAULT_MODEL}
     for label, (_, meaning) in SETTINGS.items():
         settings.append([label, defaults.get(label), meaning])
     settings.append([])

@@ -88,6 +88,26 @@ def shift_profiles(days: Sequence, sleepiness: ShiftSleepiness, epoch: datetime,
             for day, (times, kss) in zip(work_days(days), sleepiness.profiles)}
 
 
+def sleepiest_shift(rows: Sequence[dict]) -> dict | None:
+    """The shift with the highest KSS among :func:`shift_rows` (its date, shift, when and how sleepy); None
+    without a finite KSS."""
+    rated = [r for r in rows if r["peak_kss"] is not None]
+    if not rated:
+        return None
+    row = max(rated, key=lambda r: r["peak_kss"])
+    return {key: row[key] for key in ("date", "shift", "kind", "lowest_alertness", "lowest_at", "peak_kss",
+                                      "drive_home_kss", "drive_home_sleepy")}
+
+
+def night_notes(days: Sequence, sleepiness: ShiftSleepiness | None, zone) -> dict:
+    """Each night shift's :func:`night_description`, by local date ({} without a forecast): a crew's calendar
+    describes that crew's own nights."""
+    if sleepiness is None:
+        return {}
+    rows = shift_rows(days, sleepiness, days[0].start, zone)
+    return {day.date: night_description(row) for day, row in zip(work_days(days), rows) if row["kind"] == "night"}
+
+
 def night_description(row: dict) -> str:
     """One line for a night shift's calendar event: the sleepiest time and the drive home."""
     text = (f"Forecast sleepiness (KSS 1-9): highest {row['peak_kss']:.1f} around "

@@ -12,7 +12,8 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from planner.engine.population import DUFFY2011_CITATION
+from planner.engine.population import DUFFY2011_CITATION, LIGHT_SENSITIVITY_SD_LN, draw_population
+from planner.engine.sleepiness import ShiftSleepiness
 from planner.plans.cautions import SHIFT_CAUTIONS, cautions_for
 from planner.plans.document import DayRow, PlanDocument, PlanEvent, Section, stable_id
 from planner.rosters import sleepiness as sleepview
@@ -27,6 +28,7 @@ from planner.rosters.search import (
     Settings,
     describe_settings,
     plan_for,
+    reference,
 )
 from planner.world.light import Window
 from planner.world.localtime import zone_label
@@ -231,14 +233,30 @@ class CrewPlan:
     plan: RosterPlan
     views: list[RosterDayView]
     band_from_draft: bool = False   # the crew works the draft as drawn, so the population spread is its own
+    #: The crew's own sleepiness forecast on each of its shifts (average worker; None without a forecast).
+    sleepiness: ShiftSleepiness | None = None
+    #: 10th/50th/90th percentiles of the crew's sleepiness numbers over the simulated workers
+    #: (:func:`planner.rosters.sleepiness.population_summary`); None without a population run.
+    population_sleepiness: dict | None = None
+
+    @property
+    def days(self) -> list[RosterDay]:
+        return [view.day for view in self.views]
 
 
-def crew_plans(roster: Roster, model, result, chosen) -> dict[str, CrewPlan]:
+def crew_plans(roster: Roster, model, result, chosen,
+               sensitivity_sd_ln: float = LIGHT_SENSITIVITY_SD_LN) -> dict[str, CrewPlan]:
     """Each crew's plan of the chosen draft, simulated for the average worker (one run per crew), so that
-    reports and charts show every crew its own rows; {} for a roster without crews."""
+    reports and charts show every crew its own rows; {} for a roster without crews.
+
+    When the chosen draft was also simulated for a population (``chosen.population``), the same workers (the
+    draw is reproducible from its size and seed; ``sensitivity_sd_ln`` as given to the roster search) work each
+    crew's plan too, one batch per crew, for the percentiles of the crew's sleepiness.
+    """
     if not roster.crews:
         return {}
     evaluator = RosterEvaluator(roster, model, ref=result.reference)
+    people = _CrewPopulation(roster, model, chosen, sensitivity_sd_ln)
     crews = {}
     for crew in roster.crews:
         draft, crew_plan = crew_plan_of(roster, chosen, crew)
@@ -246,8 +264,31 @@ def crew_plans(roster: Roster, model, result, chosen) -> dict[str, CrewPlan]:
         metrics = evaluator.evaluate(draft, [crew_plan], final=True)
         days = roster_days(roster, draft)
         crews[crew.name] = CrewPlan(crew.name, draft, crew_plan, day_views(days, crew_plan, metrics, days[0].start),
-                                    band_from_draft=aligned)
+                                    band_from_draft=aligned, sleepiness=metrics.sleepiness,
+                                    population_sleepiness=people.sleepiness(evaluator, draft, crew_plan, days))
     return crews
+
+
+class _CrewPopulation:
+    """The chosen draft's simulated workers, drawn again (and entrained once) only when a crew needs them."""
+
+    def __init__(self, roster: Roster, model, chosen, sensitivity_sd_ln: float):
+        self.roster, self.model, self.chosen, self.sd_ln = roster, model, chosen, sensitivity_sd_ln
+        self._people = None
+
+    def sleepiness(self, evaluator: RosterEvaluator, draft, plan: RosterPlan, days) -> dict | None:
+        summary = self.chosen.population
+        if summary is None:
+            return None
+        if draft is self.chosen.draft and plan is self.chosen.best.plan:
+            metrics = summary.metrics        # the crew works the draft as simulated for the population
+        else:
+            if self._people is None:
+                drawn = draw_population(self.model, summary.size, summary.seed, sensitivity_sd_ln=self.sd_ln)
+                self._people = (drawn, reference(self.roster, drawn.model).state)
+            drawn, state = self._people
+            metrics = evaluator.evaluate(draft, [plan], final=True, model=drawn.model, initial_state=state)
+        return None if metrics.sleepiness is None else sleepview.population_summary(days, metrics.sleepiness)
 
 
 def _carried_boxes(roster: Roster, draft: Draft, plan: RosterPlan, crew_pattern: Draft, crew_plan: RosterPlan,
@@ -294,22 +335,6 @@ def crew_plan_of(roster: Roster, chosen, crew) -> tuple[Draft, RosterPlan]:
     return draft, crew_plan
 
 
-def _profiles(chosen) -> dict:
-    """KSS along each shift of the chosen plan, by local date (for the report chart's sleepiness band)."""
-    sleepiness = chosen.best.metrics.sleepiness
-    return {} if sleepiness is None else sleepview.shift_profiles(chosen.days, sleepiness, chosen.days[0].start)
-
-
-def _night_notes(chosen, zone) -> dict:
-    """Night shifts' sleepiness lines for calendar descriptions, by local date (:mod:`planner.rosters.sleepiness`)."""
-    sleepiness = chosen.best.metrics.sleepiness
-    if sleepiness is None:
-        return {}
-    rows = sleepview.shift_rows(chosen.days, sleepiness, chosen.days[0].start, zone)
-    return {day.date: sleepview.night_description(row)
-            for day, row in zip(sleepview.work_days(chosen.days), rows) if row["kind"] == "night"}
-
-
 def _target(plan: RosterPlan, cbtmin: datetime | None, ref) -> datetime | None:
     """Where CBTmin belongs for the main sleep nearest it (naps left out): that sleep's wake less the
     habitual wake-to-CBTmin gap, i.e. where the habitual sleep holds it."""
@@ -341,16 +366,20 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
     plan = chosen.best.plan
     groups = {}
     for crew in roster.crews or (None,):
+        # Each crew's shifts carry its own sleepiness forecast; the chosen draft's is that of a crew working
+        # the draft as drawn, and a crew simulated nowhere gets none.
+        days, sleepiness = chosen.days, chosen.best.metrics.sleepiness
         if crew is None:
             draft, crew_plan = chosen.draft, plan
         elif crews and crew.name in crews:
             draft, crew_plan = crews[crew.name].draft, crews[crew.name].plan
+            days, sleepiness = crews[crew.name].days, crews[crew.name].sleepiness
         else:
             draft, crew_plan = crew_plan_of(roster, chosen, crew)
-        # The sleepiness forecast belongs to the plan simulated for the chosen draft itself.
-        own = crew_plan is plan and draft is chosen.draft
-        notes = _night_notes(chosen, roster.site.zone) if own else None
-        profiles = _profiles(chosen) if own else None
+            if crew_plan is not plan or draft is not chosen.draft:
+                sleepiness = None
+        notes = sleepview.night_notes(days, sleepiness, roster.site.zone)
+        profiles = {} if sleepiness is None else sleepview.shift_profiles(days, sleepiness, days[0].start)
         groups[crew.name if crew else None] = tuple(_crew_events(roster, draft, crew_plan,
                                                                  crew.name if crew else None, notes, profiles))
     events = tuple(sorted((e for group in groups.values() for e in group), key=lambda e: (e.start, e.key)))

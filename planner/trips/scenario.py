@@ -12,7 +12,7 @@ Layout (``[[stops]]``, ``[light]`` and ``[[busy]]`` are optional)::
     kind = "trip"
     name = "Ana to Tokyo"
     description = "..."
-    model = "forger1999"                  # a built-in id or a model file (relative to this file)
+    model = "jewett1999"                  # a built-in id or a model file (relative to this file)
 
     [traveller]
     sleep = { bed = "23:00", wake = "07:00" }   # habitual sleep at home (local clock)

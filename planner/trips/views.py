@@ -115,7 +115,8 @@ def movement(outcome: Outcome, alternatives: dict, intended: str | None = None) 
     that moved the clock the other way says so."""
     net = abs(outcome.net_shift_h)
     if outcome.direction == "none":
-        text = f"stayed within 1 h of where it started (net {outcome.net_shift_h:+.1f} h)"
+        # the documents' sign (+ advance), as net_phase_shift_h; net_shift_h is + later
+        text = f"stayed within 1 h of where it started (net {-outcome.net_shift_h:+.1f} h)"
     else:
         text = f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {net:.1f} h"
     if intended in ("advance", "delay") and outcome.direction != intended:

@@ -18,6 +18,8 @@ from typing import Any
 
 import tomli_w
 
+from planner.scenariofile import DEFAULT_MODEL
+
 #: Busy periods the form offers.
 BUSY_ROWS = 2
 
@@ -33,7 +35,7 @@ TRIP_DEFAULTS: dict[str, str] = {
     "stay_days": "5", "days_after_return": "2",
     "light_box": "on", "box_lux": "10000", "box_max_minutes": "60", "glasses_transmission": "0.1",
     "daylight": "on", "daylight_max_minutes": "120",
-    "model": "forger1999", "strategy": "auto", "people": "0", "seed": "0", "robust": "",
+    "model": DEFAULT_MODEL, "strategy": "auto", "people": "0", "seed": "0", "robust": "",
     **{f"busy{k}_{part}": ("destination" if part == "place" else "") for k in range(1, BUSY_ROWS + 1)
        for part in ("place", "start", "end", "label")},
 }
@@ -134,7 +136,7 @@ def trip_scenario(values: dict[str, str]) -> tuple[dict[str, Any], list[str]]:
                          "label": values[f"busy{k}_label"] or "busy"})
     scenario: dict[str, Any] = {
         "kind": "trip", "name": values["label"] or "untitled trip",
-        "description": "Planned in the phaseplan web app.", "model": values["model"] or "forger1999",
+        "description": "Planned in the phaseplan web app.", "model": values["model"] or DEFAULT_MODEL,
         "traveller": traveller, "home": home, "destination": destination, "flights": flights, "light": light,
     }
     if busy:
