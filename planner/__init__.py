@@ -3,7 +3,7 @@
 The public API::
 
     from planner import load_model, entrain, phase_response_curve
-    model = load_model("forger1999")
+    model = load_model("jewett1999")             # the default model (phaseplan models validate)
     steady = entrain(model)                      # habitual 23:00-07:00 day
     prc = phase_response_curve(model, duration_h=6.7, lux=10_000, background_lux=10)
 """

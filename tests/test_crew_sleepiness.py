@@ -114,6 +114,12 @@ def test_each_crews_calendar_and_report_carry_its_own_forecast(planned):
             assert event.kss and max(k for _, k in event.kss) == pytest.approx(row["peak_kss"], abs=0.01)
             night_line = f"Forecast sleepiness (KSS 1-9): highest {row['peak_kss']:.1f}"
             assert (night_line in event.purpose) == (row["kind"] == "night"), (name, event.day)
+    # the report's side-by-side tables hold one row per crew with its own sleepiest shift (README "Sleepiness forecast")
+    (section,) = [s for s in plan_document.sections if s.title.startswith("Sleepiness by crew")]
+    assert [row[0] for row in section.rows] == list(document["crews"])
+    for row in section.rows:
+        worst = document["crews"][row[0]]["sleepiness"]["summary"]["sleepiest_shift"]
+        assert f"KSS {worst['peak_kss']:.1f}" in row[2] and worst["shift"] in row[2]
     # the line reaches the crew's calendar file as an independent parser reads it (vobject)
     name = sorted(document["crews"])[1]
     first_night = next(row for row in document["crews"][name]["sleepiness"]["shifts"] if row["kind"] == "night")

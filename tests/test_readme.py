@@ -33,7 +33,8 @@ def test_python_example_entrains_cbtmin_before_wake(capsys):
     # the example's PRC has delays before CBTmin and advances after: Khalsa et al. 2003, J Physiol 549:945
     assert namespace["summary"].max_delay_phase_h < 0 < namespace["summary"].max_advance_phase_h
     printed = capsys.readouterr().out
-    assert "entrained CBTmin" in printed and "doi:10.1177/074873099129000867" in printed
+    # the example prints its model's citation (Jewett, Forger & Kronauer 1999, J Biol Rhythms 14:493)
+    assert "entrained CBTmin" in printed and "doi:10.1177/074873049901400608" in printed
 
 
 def test_light_schedule_example_applies_its_layers(capsys):

@@ -250,29 +250,20 @@ def _print_crew_sleepiness(console: Console, planned: service.RosterOutcome) -> 
     if not crews:
         return
     table = Table(box=box.SIMPLE_HEAD, title=f"Sleepiness by crew: {escape(planned.chosen.draft.name)} (average worker)",
-                  title_justify="left", caption_justify="left",
-                  caption=("KSS: Karolinska Sleepiness Scale 1-9, three-process model of alertness; KSS≥7: hours at "
-                           "work at KSS 7 or more per week; sleepiest shift: its highest KSS and the time of its "
-                           "lowest alertness. A population forecast, not a fitness-for-duty test."))
+                  title_justify="left", caption_justify="left", caption=escape(sleepview.CREW_NOTE))
     spread = any(crew.population_sleepiness for crew in crews.values())
-    workers = planned.request.workers
-    headers = ["crew", "KSS≥7 h/wk", "sleepiest shift", "sleepy drives home"]
+    headers = list(sleepview.CREW_COLUMNS)
     if spread:
-        headers.append(f"KSS≥7 h/wk, median [p10–p90] of {workers}")
+        workers = planned.request.workers
+        headers += [f"KSS≥7 h/wk, {workers} workers", f"sleepy drives, {workers} workers"]
+        table.caption += escape(" Across workers: median [10th–90th percentile].")
     for header in headers:
         table.add_column(header, no_wrap=header != "sleepiest shift")
-    zone = planned.roster.site.zone
-    for name, crew in crews.items():
-        brief = sleepview.summary(crew.days, crew.sleepiness)
-        worst = sleepview.sleepiest_shift(sleepview.shift_rows(crew.days, crew.sleepiness, crew.days[0].start, zone))
-        where = NONE_TEXT if worst is None else (
-            f"{datetime.fromisoformat(worst['date']).strftime('%a %d %b')} {escape(worst['shift'])}: KSS "
-            f"{worst['peak_kss']:.1f}" + (f" around {worst['lowest_at'][11:16]}" if worst["lowest_at"] else ""))
-        hours = brief["hours_at_kss_7_or_more_per_week"]
-        cells = [escape(name), NONE_TEXT if hours is None else f"{hours:.1f}", where,
-                 f"{brief['sleepy_drives_home']} of {brief['drives_home']}"]
+    for (name, crew), row in zip(crews.items(), sleepview.crew_rows(crews, planned.roster.site.zone)):
+        cells = [escape(cell) for cell in row]
         if spread:
-            cells.append(_percentiles(crew.population_sleepiness, "hours_at_kss_7_or_more_per_week"))
+            cells += [_percentiles(crew.population_sleepiness, key)
+                      for key in ("hours_at_kss_7_or_more_per_week", "sleepy_drives_home")]
         table.add_row(*cells)
     console.print(table)
 
@@ -282,7 +273,7 @@ def _percentiles(population: dict | None, key: str) -> str:
     values = (population or {}).get(key) or {}
     if any(values.get(p) is None for p in ("p10", "median", "p90")):
         return NONE_TEXT
-    return f"{values['median']:.1f} [{values['p10']:.1f}–{values['p90']:.1f}]"
+    return escape(f"{values['median']:.1f} [{values['p10']:.1f}–{values['p90']:.1f}]")
 
 
 def _source(window: Window) -> str:

@@ -99,6 +99,32 @@ def sleepiest_shift(rows: Sequence[dict]) -> dict | None:
                                       "drive_home_kss", "drive_home_sleepy")}
 
 
+#: Columns of :func:`crew_rows` (the command's table and the report's section).
+CREW_COLUMNS = ("crew", "KSS≥7 h/wk", "sleepiest shift", "sleepy drives home")
+#: What the columns of :func:`crew_rows` mean.
+CREW_NOTE = ("KSS: Karolinska Sleepiness Scale 1-9, three-process model of alertness; KSS≥7: hours at work at KSS 7 "
+             "or more per week; sleepiest shift: its highest KSS and the time of its lowest alertness. A population "
+             "forecast, not a fitness-for-duty test.")
+
+
+def crew_rows(crews: dict, zone) -> list[tuple[str, str, str, str]]:
+    """One row of :data:`CREW_COLUMNS` per crew with a forecast (``crews``: name -> an object with ``days`` and
+    ``sleepiness``, e.g. :class:`planner.rosters.views.CrewPlan`)."""
+    rows = []
+    for name, crew in crews.items():
+        if crew.sleepiness is None:
+            continue
+        brief = summary(crew.days, crew.sleepiness)
+        worst = sleepiest_shift(shift_rows(crew.days, crew.sleepiness, crew.days[0].start, zone))
+        where = "—" if worst is None else (
+            f"{datetime.fromisoformat(worst['date']):%a %d %b} {worst['shift']}: KSS {worst['peak_kss']:.1f}"
+            + (f" around {worst['lowest_at'][11:16]}" if worst["lowest_at"] else ""))
+        hours = brief["hours_at_kss_7_or_more_per_week"]
+        rows.append((name, "—" if hours is None else f"{hours:.1f}", where,
+                     f"{brief['sleepy_drives_home']} of {brief['drives_home']}"))
+    return rows
+
+
 def night_notes(days: Sequence, sleepiness: ShiftSleepiness | None, zone) -> dict:
     """Each night shift's :func:`night_description`, by local date ({} without a forecast): a crew's calendar
     describes that crew's own nights."""

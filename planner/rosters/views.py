@@ -417,6 +417,10 @@ def document_from_roster(roster: Roster, info, result, chosen, views: list[Roste
                      note=("score: hours per week of work within ±3 h of CBTmin plus biological night spent awake"
                            + (", population median [10th–90th percentile]" if chosen.population else "")))
     sections = [ranked]
+    crew_sleepiness = sleepview.crew_rows(crews or {}, roster.site.zone)
+    if crew_sleepiness:
+        sections.append(Section(f"Sleepiness by crew: {chosen.draft.name} (average worker)", sleepview.CREW_COLUMNS,
+                                tuple(crew_sleepiness), note=sleepview.CREW_NOTE))
     if chosen.population is not None:
         pop = chosen.population
         sections.append(Section(
