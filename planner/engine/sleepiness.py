@@ -50,6 +50,15 @@ SLEEPY_KSS = 7.0
 #: The Karolinska Sleepiness Scale runs from 1 (extremely alert) to 9 (very sleepy, fighting sleep)
 #: (Åkerstedt & Gillberg 1990, Int J Neurosci 52:29).
 KSS_MIN, KSS_MAX = 1.0, 9.0
+#: KSS is reported to one decimal (the scale itself has whole steps); a forecast that reads 7.0 counts
+#: as sleepy, so the number shown and the flag beside it always agree (a reporting choice).
+KSS_REPORTED_DECIMALS = 1
+
+
+def reads_sleepy(kss) -> np.ndarray:
+    """Whether KSS, as reported to ``KSS_REPORTED_DECIMALS``, is ``SLEEPY_KSS`` or more."""
+    return np.round(np.asarray(kss, dtype=float), KSS_REPORTED_DECIMALS) >= SLEEPY_KSS
+
 #: Step of the alertness grid [h]: 10 min; Process S moves by under 0.1 alertness units in a step
 #: awake and Process C by under 0.1 (a numerical choice).
 GRID_STEP_H = 1.0 / 6.0
@@ -334,11 +343,11 @@ def shift_sleepiness(plans: PlanSleep, column_plan: np.ndarray, cbtmin_h: np.nda
         # Each point stands for one grid step of the shift (the last for what is left of it).
         weights = np.full(points.size, GRID_STEP_H)
         weights[-1] = max(b - points[-1], 0.0) if points.size > 1 else b - a
-        out["sleepy_hours"][:, w] = ((model.kss(level) >= SLEEPY_KSS) * weights[:, None]).sum(axis=0)
+        out["sleepy_hours"][:, w] = (reads_sleepy(model.kss(level)) * weights[:, None]).sum(axis=0)
         drive = np.arange(b, b + commute_h + 1e-9, GRID_STEP_H) if commute_h > 0 else np.array([b])
         out["drive_kss"][:, w] = model.kss(alertness(plans, column_plan, drive, cbtmin_h, lag_h, model)).max(axis=0)
     return ShiftSleepiness(out["lowest_alertness"], out["lowest_at_h"], out["peak_kss"], out["sleepy_hours"],
-                           out["drive_kss"], out["drive_kss"] >= SLEEPY_KSS, tuple(profiles))
+                           out["drive_kss"], reads_sleepy(out["drive_kss"]), tuple(profiles))
 
 
 # --------------------------------------------------------------------------- trips

@@ -1115,7 +1115,7 @@ def _score_reason(ranked: Sequence[DraftResult]) -> str:
         gap = abs(second.rank_score - first.rank_score)
         if close is None:
             text += (f". The {gap:.1f} h/wk between the first two is for the average worker only; plan with "
-                     "--workers to see whether it exceeds the spread between workers")
+                     "--people to see whether it exceeds the spread between workers")
         elif close:
             text += (f". {first.draft.name} and {second.draft.name} are within the population spread of each other "
                      f"(each median inside the other's 10th–90th percentiles): the {gap:.1f} h/wk between them is "

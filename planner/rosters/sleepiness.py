@@ -18,7 +18,8 @@ from planner.engine.sleepiness import SLEEPY_KSS, ShiftSleepiness
 #: Plain-words description shown beside every sleepiness figure.
 SLEEPINESS_NOTE = (f"KSS: Karolinska Sleepiness Scale 1-9 (Åkerstedt & Gillberg 1990) from the three-process model "
                    f"of alertness (Åkerstedt & Folkard 1997) driven by the simulated clock and the planned sleeps; "
-                   f"KSS {SLEEPY_KSS:g} = sleepy, but no effort to stay awake. A population forecast, not a "
+                   f"KSS {SLEEPY_KSS:g} = sleepy, but no effort to stay awake (counted when the forecast reads "
+                   f"{SLEEPY_KSS:.1f} at one decimal). A population forecast, not a "
                    f"fitness-for-duty test.")
 
 

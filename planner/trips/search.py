@@ -833,7 +833,8 @@ def _days_or_inf(outcome: Outcome) -> float:
 def moved(outcome: Outcome) -> str:
     """How the body clock actually moved over the time away, e.g. "advanced 8.9 h"."""
     if outcome.direction == "none":
-        return f"moved under 1 h (net {outcome.net_shift_h:+.1f} h)"
+        # signed as the JSON's net_phase_shift_h: + advance, - delay
+        return f"moved under 1 h (net {-outcome.net_shift_h:+.1f} h, + advance)"
     return f"{'advanced' if outcome.direction == 'advance' else 'delayed'} {abs(outcome.net_shift_h):.1f} h"
 
 
@@ -847,7 +848,7 @@ def _plan_words(result: StrategyResult) -> str:
     the clock went the other way than the plan's name."""
     text = f"the {result.strategy} plan (clock {moved(result.outcome)}"
     if not moved_as_named(result):
-        text += f", the other way than a {result.strategy} intends"
+        text += f", the other way than {'an' if result.strategy == 'advance' else 'a'} {result.strategy} intends"
     return text + ")"
 
 
