@@ -6,8 +6,8 @@ where the traveller is (a travel day runs from the origin's midnight to the
 next midnight at the arrival place after landing).  :func:`plan_schedule`
 turns a :class:`Plan` (sleep episodes, bright-light and light-avoidance
 windows) into the light at the eye, layered as: indoor light, ordinary
-daylight, the plan's bright light, cabin light in flight, the plan's dark
-glasses, then sleep (eyes shut wins).
+daylight, the plan's bright light, cabin light in flight, the plan's
+light-avoidance (dark glasses, or an eye mask on a flight), then sleep (eyes shut wins).
 
 Everything is computed in UTC; local times are for display.
 """

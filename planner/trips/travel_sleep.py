@@ -49,17 +49,12 @@ SLEEP_GRID_MINUTES = 15
 PLACEMENTS: tuple[tuple[str, float], ...] = (("near", 1.0), ("near", 0.5), ("far", 1.0), ("far", 0.5), ("mask", 0.0))
 
 
-def wrong_way_spans(cbtmins: Sequence[datetime], strategy: Strategy, start: datetime, end: datetime) -> list[Span]:
-    """The parts of [start, end] in the light-avoidance lobe (:func:`planner.trips.lobes.lobe`) of the
-    nearest CBTmin: where light would move the clock against ``strategy`` (Khalsa et al. 2003, J Physiol
-    549:945).  Each span is paired with its CBTmin through :func:`spans_with_cbtmin`."""
-    return [span for span, _ in spans_with_cbtmin(cbtmins, strategy, start, end)]
-
-
 def spans_with_cbtmin(cbtmins: Sequence[datetime], strategy: Strategy, start: datetime,
                       end: datetime) -> list[tuple[Span, datetime]]:
-    """(span, its CBTmin) for :func:`wrong_way_spans`: each CBTmin's lobe, cut to the hours nearer to it
-    than to the CBTmin before or after (the rule :func:`planner.trips.search.in_lobe` judges by)."""
+    """The parts of [start, end] in the light-avoidance lobe (:func:`planner.trips.lobes.lobe`) of the
+    nearest CBTmin, where light would move the clock against ``strategy`` (Khalsa et al. 2003, J Physiol
+    549:945), each with its CBTmin: each CBTmin's lobe cut to the hours nearer to it than to the CBTmin
+    before or after (the rule :func:`planner.trips.search.in_lobe` judges by)."""
     ordered = sorted(cbtmins)
     found = []
     for k, cbtmin in enumerate(ordered):
