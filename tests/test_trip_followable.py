@@ -158,6 +158,9 @@ def test_no_dark_glasses_after_sunset_or_before_sunrise(every_plan):
     for key, (trip, _, result) in every_plan.items():
         for strategy, outcome in light_plans(result):
             for window in outcome.plan.avoid:
+                if window.source == "eye mask":   # worn in a seat on a flight (tested below), not on foot
+                    continue
+                assert window.source == "dark glasses"
                 place = where_at(trip, window.start)
                 assert place is not None and where_at(trip, window.end) == place
                 observer = astral.Observer(place.latitude, place.longitude)
@@ -183,13 +186,15 @@ def test_no_planned_waking_gap_is_longer_than_a_day_unless_a_flight_is(every_pla
                     f"{key} {name}: awake {hours(awake, asleep):.1f} h from {awake:%m-%d %H:%M}Z")
 
 
-def test_long_flights_get_sleep_in_the_destination_night(own_plans):
+def test_without_a_plan_long_flights_get_sleep_in_the_destination_night(own_plans):
     # Sleeping on board when it is night at the destination is the usual advice for long flights
     # (common practice, no single source); the sleep keeps an hour clear after take-off and before landing.
+    # A light plan places its travel sleep by its direction instead (tests below); the no-plan baseline
+    # keeps the usual advice.
     for key in ("sydney-london", "chicago-kolkata"):
         trip, _, result = own_plans[key]
         flight = trip.flights[0]
-        outcome = result.recommended.outcome
+        outcome = result.baseline
         aboard = [(a, b) for a, b in outcome.plan.sleep if sleep_setting(trip, a, b) == "in flight"]
         assert aboard, key
         for a, b in aboard:
@@ -200,6 +205,113 @@ def test_long_flights_get_sleep_in_the_destination_night(own_plans):
         local_hours = [(a + timedelta(minutes=m)).astimezone(trip.destination.zone).hour
                        for m in range(0, int(hours(a, b) * 60), 30)]
         assert all(h >= 23 or h < 7 for h in local_hours), (key, a, b)
+
+
+def travel_sleeps(trip, outcome):
+    return [(a, b) for a, b in outcome.plan.sleep if sleep_setting(trip, a, b) != "bed"]
+
+
+def needed_for_the_waking_gap(sleep, episode) -> bool:
+    """Whether leaving ``episode`` out of ``sleep`` leaves a waking gap over 24 h (a nap the gap rule forces)."""
+    rest = sorted(s for s in sleep if s != episode)
+    return any(hours(awake, asleep) > 24.0 for (_, awake), (asleep, _) in zip(rest[:-1], rest[1:]))
+
+
+def test_travel_sleep_lies_in_the_lobe_where_light_would_move_the_clock_the_wrong_way(every_plan):
+    # Light before CBTmin delays the clock and light after it advances it (Khalsa et al. 2003, J Physiol
+    # 549:945, type 1 PRC, crossover at CBTmin): an advance plan sleeps aboard in the hours before the
+    # simulated CBTmin and a delay plan in the hours after it (10-h lobes, the planner's LOBE_H), unless the
+    # sleep is a nap the 24-h waking-gap rule forces (Dawson & Reid 1997, Nature 388:235, from memory).
+    checked = 0
+    for key, (trip, _, result) in every_plan.items():
+        for strategy, outcome in light_plans(result):
+            minima = outcome.cbtmins   # every simulated CBTmin, also those in flight
+            for a, b in travel_sleeps(trip, outcome):
+                middle = a + (b - a) / 2
+                offset = hours(min(minima, key=lambda c: abs(hours(c, middle))), middle)
+                in_lobe = (-10 <= offset <= 0) if strategy == "advance" else (0 <= offset <= 10)
+                if in_lobe:
+                    checked += 1
+                    continue
+                assert needed_for_the_waking_gap(outcome.plan.sleep, (a, b)), (
+                    f"{key} {strategy}: sleep aboard {a:%m-%d %H:%M}Z-{b:%H:%M}Z has its middle {offset:+.1f} h "
+                    "from CBTmin and is no forced nap")
+    assert checked >= 8
+
+
+def test_the_advance_and_delay_plans_sleep_aboard_at_different_hours(every_plan):
+    # The two directions use opposite lobes of the PRC (Khalsa et al. 2003, J Physiol 549:945), so on a
+    # flight long enough to hold both lobes their travel sleep differs.
+    compared = 0
+    for key, (trip, _, result) in every_plan.items():
+        plans = dict(light_plans(result))
+        if set(plans) != {"advance", "delay"} or max(hours(f.depart, f.arrive) for f in trip.flights) < 12:
+            continue
+        compared += 1
+        assert travel_sleeps(trip, plans["advance"]) != travel_sleeps(trip, plans["delay"]), key
+    assert compared >= 4   # the three own trips, lisbon-tokyo and porto-singapore fly 12 h or more
+
+
+def eye_masks(outcome):
+    return [w for w in outcome.plan.avoid if w.source == "eye mask"]
+
+
+def test_eye_masks_are_worn_on_flights_in_the_light_avoidance_lobe(every_plan):
+    # An eye mask is worn seated on the plane (common practice, no single source), only while awake (sleep
+    # already keeps the light out), in the lobe where light would move the clock the wrong way (Khalsa et
+    # al. 2003, J Physiol 549:945), at least 15 min (the issue's practicality limit).
+    found = 0
+    for key, (trip, _, result) in every_plan.items():
+        for strategy, outcome in light_plans(result):
+            minima = outcome.cbtmins   # every simulated CBTmin, also those in flight
+            for window in eye_masks(outcome):
+                found += 1
+                assert any(f.depart <= window.start and window.end <= f.arrive for f in trip.flights), (key, window)
+                assert window.minutes >= 15 and window.lux <= 0.01, (key, window)
+                assert not any(a < window.end and window.start < b for a, b in outcome.plan.sleep), (key, window)
+                middle = window.start + (window.end - window.start) / 2
+                offset = hours(min(minima, key=lambda c: abs(hours(c, middle))), middle)
+                assert (-10 <= offset <= 0) if strategy == "advance" else (0 <= offset <= 10), (key, strategy, offset)
+    assert found >= 3
+
+
+def test_eye_masks_reach_json_table_agenda_and_calendars(every_plan):
+    # the calendar parsed back with two reference libraries (icalendar and vobject, RFC 5545)
+    import icalendar
+    import vobject
+
+    from planner.cli.agenda import _window_line
+    from planner.cli.trip import _window_cell
+    from planner.plans.ics import calendar_bytes
+    from planner.plans.report import report_html
+    from planner.trips.document import document_from_trip
+    from planner.trips.export import day_entry
+    from planner.trips.views import day_views
+
+    key, strategy = next((k, s) for k, (_, _, r) in every_plan.items() for s, o in light_plans(r) if eye_masks(o))
+    trip, info, result = every_plan[key]
+    chosen = result.alternatives[strategy]
+    result = SimpleNamespace(**{**vars(result), "strategy": strategy, "recommended": chosen})
+    mask = eye_masks(chosen.outcome)[0]
+    entries = [day_entry(trip, v) for v in day_views(trip, chosen.outcome)]
+    json_masks = [w for e in entries for w in e["light_avoidance"] if w["source"] == "eye mask"]
+    assert json_masks and all(w["transmission"] == mask.lux and w["minutes"] >= 15 for w in json_masks)
+    assert "eye mask" in _window_cell(trip, mask, "local")
+    assert "light-avoidance, eye mask" in _window_line(trip, mask, "local")[1]
+
+    document = document_from_trip(trip, info, result)
+    events = [e for e in document.events if e.summary == "Dim light: eye mask"]
+    assert events and all(e.kind == "light_avoidance" and "seat" in e.action for e in events)
+    ics = calendar_bytes(document)
+    parsed = icalendar.Calendar.from_ical(ics)
+    masked = [c for c in parsed.walk("VEVENT") if str(c.get("summary")) == "Dim light: eye mask"]
+    assert len(masked) == len(events) and all(c.walk("VALARM") for c in masked)
+    # each carries the eye mask's own caution: seated only (common practice, no single source)
+    from planner.plans.cautions import CAUTIONS
+    assert all(CAUTIONS["eye_mask"].short in str(c.get("description")) for c in masked)
+    card = vobject.readOne(ics.decode("utf-8"))
+    assert sum(1 for v in card.vevent_list if v.summary.value == "Dim light: eye mask") == len(events)
+    assert "min, eye mask)" in report_html(document)   # the day table's light-avoidance cell
 
 
 def test_travel_sleep_is_in_the_json(own_plans):

@@ -14,7 +14,7 @@ from rich.console import Console
 from rich.markup import escape
 
 from planner.plans.entries import lux_text
-from planner.trips.model import Trip, sleep_setting
+from planner.trips.model import EYE_MASK, Trip, sleep_setting
 from planner.trips.search import REENTRAINMENT_TOLERANCE_H, TripPlanResult
 from planner.trips.views import DayView, local, movement, settling, strategy_name
 from planner.world.light import Window
@@ -39,6 +39,8 @@ def _window_line(trip: Trip, window: Window, row_zone: str) -> tuple[datetime, s
     minutes = f"{window.minutes:.0f} min"
     if window.source == "dark glasses":
         what = f"light-avoidance, dark glasses {window.lux:.0%}, {minutes}"
+    elif window.source == EYE_MASK:
+        what = f"light-avoidance, eye mask (seated, in flight), {minutes}"
     else:
         what = f"bright light, {window.source} {lux_text(window.lux)} lx, {minutes}"
     return window.start, f"{_span(trip, window.start, window.end, row_zone)}  {what}"

@@ -55,7 +55,7 @@ from planner.plans.entries import clock, lux_text
 from planner.plans.files import PlanFiles, write_plan_files
 from planner.plans.ics import DEFAULT_ALARM_MINUTES
 from planner.trips.evidence import StartingPhase
-from planner.trips.model import Trip, sleep_setting
+from planner.trips.model import EYE_MASK, Trip, sleep_setting
 from planner.trips.robust import EnsembleResult, PlanStats, RobustResult
 from planner.trips.scenario import DEFAULT_DEMO, ScenarioInfo
 from planner.trips.search import REENTRAINMENT_TOLERANCE_H, TripPlanResult
@@ -121,6 +121,8 @@ def _window_cell(trip: Trip, window: Window, row_zone: str) -> str:
     text = f"{_span_cell(trip, window.start, window.end, row_zone)} {window.minutes:.0f} min"
     if window.source == "dark glasses":
         return text + f"\ndark glasses {window.lux:.0%}"
+    if window.source == EYE_MASK:
+        return text + "\neye mask, seated"
     return text + f"\n{window.source} {lux_text(window.lux)} lx"
 
 

@@ -85,6 +85,15 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
         "Never wear the dark glasses while driving or cycling at night or in dim light.",
     ),
     Caution(
+        "eye_mask",
+        "Eye mask on a flight",
+        "Wear the eye mask only while seated (on a plane, or resting in a seat on a layover): take it off before "
+        "standing up, walking about, on stairs and for the crew's safety instructions, and never wear it while "
+        "driving.",
+        ("common practice, no single source",),
+        "Eye mask only while seated; take it off to stand up or walk about.",
+    ),
+    Caution(
         "sleep_loss",
         "Sleep loss",
         "Overnight flights, night shifts and moved bedtimes cost sleep. Do not drive when drowsy: in a "
@@ -152,8 +161,8 @@ CAUTIONS: dict[str, Caution] = {c.key: c for c in (
 )}
 
 #: The cautions a trip plan shows, in order.
-TRIP_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss", "melatonin",
-                                  "daylight_model", "clinician")
+TRIP_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "eye_mask", "sleep_loss",
+                                  "melatonin", "daylight_model", "clinician")
 
 #: The cautions a shift-rotation plan shows, in order.
 SHIFT_CAUTIONS: tuple[str, ...] = ("model", "bright_light", "daylight", "dark_glasses", "sleep_loss",

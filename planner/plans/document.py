@@ -117,8 +117,9 @@ class PlanEvent:
 
     def light_text(self) -> str:
         """The light level and its source in words, e.g. ``"10,000 lux at the eye (light box)"``."""
-        if self.transmission is not None:
-            return f"{self.source} passing {self.transmission:.0%} of the light"
+        if self.transmission is not None:   # light-avoidance: dark glasses, or an eye mask (near darkness)
+            dark = " (near darkness at the eye)" if self.transmission < 0.01 else ""
+            return f"{self.source} passing {self.transmission:.0%} of the light{dark}"
         if self.lux is None:
             return self.source
         if self.kind == "sleep":

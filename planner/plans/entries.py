@@ -97,7 +97,7 @@ def window_entry(window: Window, iso: Callable[[datetime], str]) -> dict[str, An
     """A light window for JSON, its times written by ``iso`` (on the local clock of the plan's person)."""
     entry = {"start": iso(window.start), "end": iso(window.end),
              "minutes": whole_minutes(window.minutes), "source": window.source}
-    if window.source == "dark glasses":
+    if window.source in ("dark glasses", "eye mask"):   # light-avoidance: the fraction of light passed
         entry["transmission"] = window.lux
     else:
         entry["lux"] = window.lux

@@ -300,8 +300,8 @@ def _event_cell(events: list[PlanEvent], row_zone: tzinfo) -> str:
     for event in events:
         detail = ""
         if event.kind in ("bright_light", "light_avoidance"):
-            amount = (f"{event.transmission:.0%} glasses" if event.transmission is not None
-                      else f"{event.lux:,.0f} lx {event.source}")
+            amount = (f"{event.lux:,.0f} lx {event.source}" if event.transmission is None
+                      else event.source if event.source == "eye mask" else f"{event.transmission:.0%} glasses")
             detail = f" ({event.minutes:.0f} min, {amount})"
         elif event.kind == "work":
             detail = f" ({event.source})"

@@ -7,7 +7,7 @@ from datetime import datetime, timedelta
 
 from planner.plans.cautions import TRIP_CAUTIONS, cautions_for
 from planner.plans.document import PRC_CITATION, UTC, DayRow, Period, PlanDocument, PlanEvent, stable_id
-from planner.trips.model import Trip, sleep_setting
+from planner.trips.model import EYE_MASK, Trip, sleep_setting
 from planner.trips.scenario import ScenarioInfo
 from planner.trips.search import TripPlanResult
 from planner.trips.views import (
@@ -58,16 +58,26 @@ def _bright_event(trip: Trip, view: DayView, window: Window, strategy: str) -> d
 
 def _avoid_event(trip: Trip, view: DayView, window: Window, strategy: str) -> dict:
     minutes = round((window.end - window.start).total_seconds() / 60.0)
+    if window.source == EYE_MASK:
+        return dict(_avoid_purpose(trip, view, strategy), kind="light_avoidance", summary="Dim light: eye mask",
+                    action=(f"Awake in your seat: wear the eye mask for {minutes} min and rest with the cabin light "
+                            "kept out; take it off to get up or walk about."),
+                    source=window.source, lux=None, transmission=float(window.lux), caution="eye_mask")
     action = (f"Wear the dark glasses for {minutes} min (they pass {window.lux:.0%} of the light) or stay in "
               "dim light indoors.")
+    return dict(_avoid_purpose(trip, view, strategy), kind="light_avoidance", summary="Dim light: dark glasses",
+                action=action, source=window.source, lux=None, transmission=float(window.lux))
+
+
+def _avoid_purpose(trip: Trip, view: DayView, strategy: str) -> dict:
+    """Why a light-avoidance window sits where it does (the lobe opposite the plan's direction)."""
     if strategy == "delay":
         purpose = (f"Light in these hours, after {_cbtmin_note(trip, view)}, would move the body clock earlier "
                    "and undo the planned delay; avoiding it keeps the clock moving later.")
     else:
         purpose = (f"Light in these hours, before {_cbtmin_note(trip, view)}, would move the body clock later "
                    "and undo the planned advance; avoiding it keeps the clock moving earlier.")
-    return dict(kind="light_avoidance", summary="Dim light: dark glasses", action=action, purpose=purpose,
-                source=window.source, lux=None, transmission=float(window.lux))
+    return {"purpose": purpose}
 
 
 def _sleep_event(trip: Trip, view: DayView, strategy: str, start: datetime, end: datetime) -> dict:
@@ -77,6 +87,11 @@ def _sleep_event(trip: Trip, view: DayView, strategy: str, start: datetime, end:
         purpose = (f"Sleep in the dark at the planned hours, part of the {strategy_name(strategy)} plan toward "
                    f"{_target_words(view)}; closed eyes also keep light out at the wrong time.")
     setting = sleep_setting(trip, start, end)
+    if setting != "bed" and strategy in ("advance", "delay"):
+        side = "before" if strategy == "advance" else "after"
+        purpose += (f" Travel sleep goes {side} the body clock's minimum where the flight allows, the hours in which "
+                    "cabin light would move the clock against the plan (or where a nap keeps the time awake "
+                    "under a day).")
     if setting == "in flight":
         return dict(kind="sleep", summary="Sleep in flight",
                     action="Eye mask on (it keeps the cabin light out), seat reclined, earplugs if you have them; "

@@ -6,8 +6,8 @@ where the traveller is (a travel day runs from the origin's midnight to the
 next midnight at the arrival place after landing).  :func:`plan_schedule`
 turns a :class:`Plan` (sleep episodes, bright-light and light-avoidance
 windows) into the light at the eye, layered as: indoor light, ordinary
-daylight, the plan's bright light, cabin light in flight, the plan's dark
-glasses, then sleep (eyes shut wins).
+daylight, the plan's bright light, cabin light in flight, the plan's
+light-avoidance (dark glasses, or an eye mask on a flight), then sleep (eyes shut wins).
 
 Everything is computed in UTC; local times are for display.
 """
@@ -54,6 +54,11 @@ MAX_WAKE_H = 24.0
 #: Shortest sleep opportunity planned on a flight or a layover [h] (one sleep cycle of about
 #: 90 min; common practice, no single source).
 MIN_TRAVEL_SLEEP_H = 1.5
+#: Light-avoidance source worn awake in a seat on a flight (:mod:`planner.trips.travel_sleep`).
+EYE_MASK = "eye mask"
+#: Fraction of the light an eye mask lets reach the eye [0..1]: an opaque mask over the eyes leaves
+#: them in near darkness, as closed eyes in sleep (from memory; no measured value at hand).
+EYE_MASK_TRANSMISSION = 0.0
 
 
 @dataclass(frozen=True)
@@ -186,6 +191,33 @@ def where_at(trip: Trip, moment: datetime) -> Place | None:
 
 
 @dataclass(frozen=True)
+class TravelSleep:
+    """Sleep on flights and layovers chosen for a plan (:mod:`planner.trips.travel_sleep`), UTC.
+
+    Attributes
+    ----------
+    spots : tuple of (datetime, datetime)
+        The sleep spots (:func:`sleep_spots`) this placement decides; the others keep the default
+        placement (the destination's night).
+    episodes : tuple of (datetime, datetime)
+        The sleep opportunities placed in those spots.
+    eye_mask : tuple of Window
+        Light-avoidance with an eye mask while awake on a flight (source ``EYE_MASK``).
+    preferred : tuple of (datetime, datetime)
+        Where a nap that breaks a waking gap longer than ``MAX_WAKE_H`` should go if one is needed
+        (the light-avoidance lobe of the plan's direction).
+    label : str
+        How the placement was made, in a few words (for tests and debugging).
+    """
+
+    spots: tuple[tuple[datetime, datetime], ...]
+    episodes: tuple[tuple[datetime, datetime], ...]
+    eye_mask: tuple[Window, ...] = ()
+    preferred: tuple[tuple[datetime, datetime], ...] = ()
+    label: str = ""
+
+
+@dataclass(frozen=True)
 class Plan:
     """Sleep episodes and light windows of a whole trip (UTC)."""
 
@@ -205,17 +237,26 @@ def night_of(place: Place, evening: date) -> tuple[datetime, datetime]:
     return bed, bed + timedelta(hours=(place.wake_h - place.bed_h) % HOURS_PER_DAY)
 
 
-def habitual_sleep(trip: Trip, shifts_h: Sequence[float] = ()) -> list[tuple[datetime, datetime]]:
-    return list(_habitual_sleep(trip, tuple(float(x) for x in shifts_h)))
+def habitual_sleep(trip: Trip, shifts_h: Sequence[float] = (),
+                   travel: TravelSleep | None = None) -> list[tuple[datetime, datetime]]:
+    return list(_habitual_sleep(trip, tuple(float(x) for x in shifts_h), travel))
 
 
 @lru_cache(maxsize=4096)
-def _habitual_sleep(trip: Trip, shifts_h: tuple[float, ...]) -> tuple[tuple[datetime, datetime], ...]:
+def _habitual_sleep(trip: Trip, shifts_h: tuple[float, ...],
+                    travel: TravelSleep | None = None) -> tuple[tuple[datetime, datetime], ...]:
     """Sleep episodes of the trip: home habits (the night closing preparation day k moved by
     ``shifts_h[k]`` [h], negative = earlier), then each place's wanted sleep from the first
     night after arrival.  No sleep overlaps a flight, and the traveller is up
-    ``WAKE_BEFORE_DEPARTURE_H`` before each departure.
+    ``WAKE_BEFORE_DEPARTURE_H`` before each departure.  Sleep on flights and layovers as
+    ``travel`` places it (default: :func:`_travel_sleep`).
     """
+    return tuple(_fit_sleep_to_travel(trip, list(bed_sleep(trip, shifts_h)), travel))
+
+
+@lru_cache(maxsize=4096)
+def bed_sleep(trip: Trip, shifts_h: tuple[float, ...] = ()) -> tuple[tuple[datetime, datetime], ...]:
+    """The sleeps in a bed of :func:`habitual_sleep`, cut around the flights, without travel sleep."""
     days = trip_days(trip)
     episodes = [night_of(trip.home, days[0].local_date - timedelta(days=1))]
     for day in days:
@@ -224,7 +265,7 @@ def _habitual_sleep(trip: Trip, shifts_h: tuple[float, ...]) -> tuple[tuple[date
             move = timedelta(hours=float(shifts_h[day.index]))
             bed, wake = bed + move, wake + move
         episodes.append((bed, wake))
-    return tuple(_fit_sleep_to_travel(trip, episodes))
+    return tuple(_fit_sleep_around_flights(trip, episodes))
 
 
 def sleep_spots(trip: Trip) -> list[tuple[datetime, datetime, str]]:
@@ -253,19 +294,23 @@ def sleep_setting(trip: Trip, start: datetime, end: datetime) -> Literal["in fli
 
 
 def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list[tuple[datetime, datetime]]:
-    """Sleep on flights and layovers added to ``episodes`` (sorted, none overlapping travel).
+    """Sleep on flights and layovers added to ``episodes`` (sorted, none overlapping travel), the
+    default for every plan that does not place its own (:func:`_fit_sleep_to_travel`): sleep in the
+    destination's night (:func:`_destination_night_sleep`), then a nap in every long waking gap
+    (:func:`fill_long_gaps`)."""
+    return fill_long_gaps(trip, _destination_night_sleep(trip, episodes))
 
-    First each travel spot (:func:`sleep_spots`) takes the part of it that falls in the night of
-    the place it is heading for, so the sleep lands where the new day will want it (the usual
-    advice to sleep on board when it is night at the destination).  Then every planned waking gap
-    longer than ``MAX_WAKE_H`` that holds a travel spot gets a nap there: as short as keeps both
-    parts of the gap within ``MAX_WAKE_H`` (``MIN_TRAVEL_SLEEP_H`` at least), placed to split the
-    gap as evenly as the spot allows, so that it breaks the long day without taking the place of
-    the night's sleep.
-    """
+
+def _destination_night_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]],
+                             skip: Sequence[tuple[datetime, datetime]] = ()) -> list[tuple[datetime, datetime]]:
+    """``episodes`` with sleep where each travel spot (:func:`sleep_spots`) but those in ``skip``
+    falls in the night of the place it is heading for, so the sleep lands where the new day will want
+    it (the usual advice to sleep on board when it is night at the destination)."""
     spots = sleep_spots(trip)
     added = []
     for a, b, _ in spots:
+        if (a, b) in skip:
+            continue
         heading = next((f.destination for f in sorted(trip.flights, key=lambda f: f.depart) if f.arrive >= b),
                        trip.flights[-1].destination)
         first = a.astimezone(heading.zone).date() - timedelta(days=1)
@@ -274,8 +319,21 @@ def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list
             for lo, hi in free_segments(max(a, bed), min(b, wake), sorted(episodes + added)):
                 if hi - lo >= timedelta(hours=MIN_TRAVEL_SLEEP_H):
                     added.append((lo, hi))
+    return sorted(episodes + added)
+
+
+def fill_long_gaps(trip: Trip, merged: list[tuple[datetime, datetime]],
+                   preferred: Sequence[tuple[datetime, datetime]] = ()) -> list[tuple[datetime, datetime]]:
+    """``merged`` (sorted sleep) with a nap in a travel spot (:func:`sleep_spots`) in every planned
+    waking gap longer than ``MAX_WAKE_H`` that holds one.
+
+    The nap is as short as keeps both parts of the gap within ``MAX_WAKE_H`` (``MIN_TRAVEL_SLEEP_H``
+    at least), so that it breaks the long day without taking the place of the night's sleep.  It is
+    placed where it overlaps ``preferred`` most (a plan's light-avoidance lobe) among the starts that
+    keep both parts within ``MAX_WAKE_H``, else to split the gap as evenly as the spot allows.
+    """
+    spots = sleep_spots(trip)
     longest = timedelta(hours=MAX_WAKE_H)
-    merged = sorted(episodes + added)
     for _ in range(len(spots)):
         gaps = [(w, b) for (_, w), (b, _) in zip(merged[:-1], merged[1:]) if b - w > longest]
         filled = False
@@ -287,6 +345,9 @@ def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list
                 length = min(hi - lo, max(timedelta(hours=MIN_TRAVEL_SLEEP_H), (asleep - awake) - 2 * longest))
                 start = awake + ((asleep - awake) - length) / 2
                 start = min(max(start, lo), hi - length)
+                start = _preferred_start(start, length, (max(lo, asleep - longest - length), min(hi - length,
+                                                                                                   awake + longest)),
+                                         preferred)
                 merged = sorted(merged + [(start, start + length)])
                 filled = True
                 break
@@ -297,10 +358,39 @@ def _travel_sleep(trip: Trip, episodes: list[tuple[datetime, datetime]]) -> list
     return merged
 
 
-def _fit_sleep_to_travel(trip: Trip, episodes):
-    """Sleep episodes cut around the flights (up ``WAKE_BEFORE_DEPARTURE_H`` before each), then
-    sleep on flights and layovers added (:func:`_travel_sleep`)."""
-    return _travel_sleep(trip, _fit_sleep_around_flights(trip, episodes))
+def _preferred_start(start: datetime, length: timedelta, starts: tuple[datetime, datetime],
+                     preferred: Sequence[tuple[datetime, datetime]]) -> datetime:
+    """The start in ``starts`` (first, last) of a nap of ``length`` overlapping ``preferred`` most
+    (ties: nearest to ``start``); ``start`` when none overlaps or the range is empty."""
+    first, last = starts
+    if not preferred or last < first:
+        return start
+    candidates = {first, last, min(max(start, first), last)}
+    for a, b in preferred:
+        candidates |= {min(max(a, first), last), min(max(b - length, first), last)}
+
+    def overlap(x):
+        return sum((max(timedelta(0), min(b, x + length) - max(a, x)) for a, b in preferred), timedelta(0))
+
+    best = max(sorted(candidates), key=lambda x: (overlap(x), -abs((x - start).total_seconds())))
+    return best if overlap(best) > timedelta(0) else start
+
+
+def _fit_sleep_to_travel(trip: Trip, fitted: list[tuple[datetime, datetime]], travel: TravelSleep | None = None):
+    """Sleep episodes already cut around the flights (:func:`bed_sleep`) with sleep on flights and
+    layovers added: as ``travel`` places it in its spots, the default (:func:`_travel_sleep`) in the
+    others, then naps that break long waking gaps (:func:`fill_long_gaps`)."""
+    if travel is None:
+        return _travel_sleep(trip, fitted)
+    merged = _destination_night_sleep(trip, fitted, skip=travel.spots)
+    placed = [(a, b) for episode in travel.episodes for a, b in free_segments(*episode, merged)]
+    joined: list[tuple[datetime, datetime]] = []
+    for a, b in fill_long_gaps(trip, sorted(merged + placed), travel.preferred):
+        if joined and a <= joined[-1][1]:   # a nap that continues a sleep is one sleep
+            joined[-1] = (joined[-1][0], max(b, joined[-1][1]))
+        else:
+            joined.append((a, b))
+    return joined
 
 
 def _fit_sleep_around_flights(trip: Trip, episodes):
@@ -354,7 +444,10 @@ def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
             layers.append(ambient(window.start, window.end, window.lux, window.source))
     layers.extend(_cabin_layers(trip))
     for window in plan.avoid:
-        layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
+        if window.source == EYE_MASK:
+            layers.append(LightLayer(window.start, window.end, "scale", window.lux, EYE_MASK))
+        else:
+            layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
     layers.extend(_sleep_layers(tuple(plan.sleep)))
     return LightSchedule.from_layers(trip.start, trip.end, trip.light.indoor_lux, layers)
 

@@ -27,7 +27,7 @@ short pulses and large shifts pass near low amplitude (Dean, Forger & Klerman
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from datetime import datetime, timedelta
 from typing import Callable, Literal, Sequence
@@ -45,27 +45,39 @@ from planner.engine.markers import (
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError
 from planner.intervals import free_segments
+from planner.trips.lobes import (
+    LOBE_H,
+    MAX_AVOIDANCE_H,
+    MIN_WINDOW_MINUTES,
+    Strategy,
+    lobe,
+    nearest_cbtmin,
+    whole_minute as _whole_minute,
+)
 from planner.trips.model import (
     IN_FLIGHT_SETTLE_H,
     WAKE_BEFORE_DEPARTURE_H,
     Plan,
     Targets,
+    TravelSleep,
     Trip,
     TripDay,
+    bed_sleep,
     daylight_within,
     habitual_sleep,
     night_of,
     plan_schedule,
+    sleep_setting,
     targets,
     trip_days,
     where_at,
 )
+from planner.trips.travel_sleep import eye_mask_clear_of, travel_sleep_options
 from planner.world.daylight import mean_daylight_for
 from planner.world.light import Window, hours_between
 from planner.world.places import Place
 from planner.intervals import count_text
 
-Strategy = Literal["advance", "delay"]
 #: What a plan aims at: the clock of each day's place on the route, or home time throughout.
 Aim = Literal["route", "home"]
 
@@ -84,14 +96,6 @@ WINDOW_LATTICE_H = 0.25
 #: runs over the hours after CBTmin and the delaying side over the hours before it, where a
 #: type 1 PRC has its advance and delay regions (Khalsa et al. 2003, J Physiol 549:945).
 RESPONSE_SIDE_H = 8.0
-#: Shortest prescribed window [min]: shorter ones are dropped, as too short to be worth doing (a
-#: practicality limit of this planner).
-MIN_WINDOW_MINUTES = 15.0
-#: Width of each response lobe around CBTmin [h]: light in the LOBE_H hours after CBTmin advances
-#: the clock and light in the LOBE_H hours before it delays (the advance and delay regions of the
-#: human PRC to bright light, Khalsa et al. 2003, J Physiol 549:945, Fig. 2). A bright-light window
-#: sits in the lobe that moves the clock the planned way, a light-avoidance window in the other.
-LOBE_H = 10.0
 #: Day placements :meth:`TripPlanner.build` remembers before starting afresh (bounds memory).
 PLACED_CACHE_SIZE = 50_000
 #: The brute-force reference plan (:meth:`TripPlanner.reference_candidates`): each day, a bright-light
@@ -99,8 +103,6 @@ PLACED_CACHE_SIZE = 50_000
 #: anchor on a grid of ``REFERENCE_START_STEP_H`` (a check on the search devised by this project).
 REFERENCE_WINDOW_HOURS = (2.0, 3.0)
 REFERENCE_START_STEP_H = 0.25
-#: Longest prescribed light-avoidance window [h] (a practicality limit of this planner).
-MAX_AVOIDANCE_H = 4.0
 #: A trip back home whose time at the destination is at most this many full days is planned
 #: on home time as well: re-entraining there and back again costs more days than the stay
 #: (common practice for short trips, no single source; the threshold is this planner's choice).
@@ -310,7 +312,10 @@ def _sleep_displacement_h(trip: Trip, plan: Plan) -> float:
 
 @lru_cache(maxsize=4096)
 def _sleep_displacement(trip: Trip, sleep: tuple) -> float:
-    habitual = habitual_sleep(trip)
+    """Hours the plan's sleeps in a bed moved from the habits (travel sleep placed for the plan's
+    direction is not a displacement)."""
+    habitual = bed_sleep(trip)
+    sleep = [(a, b) for a, b in sleep if sleep_setting(trip, a, b) == "bed"]
     total = 0.0
     for (a, _), (b, _) in zip(habitual, sleep):
         total += abs(hours_between(a, b))
@@ -390,23 +395,6 @@ def fit_window(trip: Trip, start: datetime, end: datetime, source: str, forbidde
     return Window(s, e, lux, source)
 
 
-def lobe(cbtmin: datetime, kind: Literal["bright", "avoid"], strategy: Strategy) -> tuple[datetime, datetime]:
-    """The hours around ``cbtmin`` where a window of ``kind`` moves the clock the ``strategy``'s way.
-
-    Bright light for an advance goes in the ``LOBE_H`` hours after CBTmin, for a delay in the
-    ``LOBE_H`` hours before it; light-avoidance takes the other lobe, where light would push the
-    clock the wrong way (Khalsa et al. 2003, J Physiol 549:945).
-    """
-    after = (kind == "bright") == (strategy == "advance")
-    reach = timedelta(hours=LOBE_H)
-    return (cbtmin, cbtmin + reach) if after else (cbtmin - reach, cbtmin)
-
-
-def nearest_cbtmin(cbtmins: Sequence[datetime], moment: datetime) -> datetime | None:
-    """The simulated CBTmin closest to ``moment``; None without any."""
-    return min(cbtmins, key=lambda c: abs(hours_between(c, moment))) if cbtmins else None
-
-
 def in_lobe(window: Window, cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"], strategy: Strategy) -> bool:
     """Whether the window's midpoint lies in its lobe (:func:`lobe`) of the nearest simulated CBTmin."""
     middle = window.start + (window.end - window.start) / 2
@@ -427,6 +415,15 @@ class DayChoice:
     avoid_offset_h: float = 0.0
     avoid_hours: float = 0.0
     sleep_shift_h: float = 0.0
+    #: On a travel day: sleep and eye masks on its flights and layovers (and those of earlier travel
+    #: days), placed by :func:`planner.trips.travel_sleep.travel_sleep_options`; None = the default
+    #: placement in the destination's night.
+    travel_sleep: TravelSleep | None = None
+
+
+def _travel_choice(choices: Sequence[DayChoice]) -> TravelSleep | None:
+    """The travel sleep of the last travel day that placed one (it holds the earlier ones too)."""
+    return next((c.travel_sleep for c in reversed(choices) if c.travel_sleep is not None), None)
 
 
 def _lattice(moment: datetime) -> datetime:
@@ -448,13 +445,8 @@ class TripPlanner:
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
-        shifts = []
-        cumulative = 0.0
-        for day, choice in zip(self.days, choices):
-            if day.kind == "preparation":
-                cumulative = choice.sleep_shift_h
-                shifts.append(cumulative)
-        sleep = tuple(habitual_sleep(self.trip, shifts))
+        travel = _travel_choice(choices)
+        sleep = tuple(habitual_sleep(self.trip, self._sleep_shifts(choices), travel))
         # The windows of a day depend only on the days before it, so the windows placed up to
         # each day are remembered (searches vary one day of otherwise equal plans).
         placed: tuple = (sleep, (), (), ())     # sleep, bright, avoid, used minutes per (day, source)
@@ -468,7 +460,12 @@ class TripPlanner:
             if following is None:
                 following = self._placed[key] = self._place_day(placed, choice, anchor, strategy)
             placed = following
-        return Plan(sleep, placed[1], placed[2])
+        masks = eye_mask_clear_of(travel.eye_mask, sleep) if travel is not None else ()
+        return Plan(sleep, placed[1], placed[2] + masks)
+
+    def _sleep_shifts(self, choices: Sequence[DayChoice]) -> tuple[float, ...]:
+        """The sleep shift of each preparation day [h]."""
+        return tuple(choice.sleep_shift_h for day, choice in zip(self.days, choices) if day.kind == "preparation")
 
     def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime, strategy: Strategy) -> tuple:
         """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
@@ -581,17 +578,20 @@ class TripPlanner:
         arrival = self.evaluator.arrival_index()
         best_outcome = base
         for day in self.days:
-            if anchors[day.index] is None:
-                continue
             settled = best_outcome.reentrainment_days
             if settled is not None and day.index > arrival + settled:
                 break  # every later day already holds the target: no more light is prescribed
+            travel = self._choose_travel_sleep(day, strategy, choices, anchors, best_outcome, required, arrival)
+            if travel is not None:
+                choices, anchors, best_outcome = travel
+            if anchors[day.index] is None:
+                continue
             previous_shift = choices[day.index - 1].sleep_shift_h if day.index else 0.0
             options = candidates(day, strategy, previous_shift)
             plans = {}
             for option in options:
                 trial = list(choices)
-                trial[day.index] = option
+                trial[day.index] = replace(option, travel_sleep=choices[day.index].travel_sleep)
                 for later in range(day.index + 1, len(trial)):
                     if self.days[later].kind == "preparation":
                         trial[later] = DayChoice(sleep_shift_h=option.sleep_shift_h)
@@ -605,6 +605,29 @@ class TripPlanner:
             best_outcome = outcomes[pick]
             anchors = self._merge_anchors(anchors, self._anchors(best_outcome), day.index + 1)
         return choices, anchors, best_outcome
+
+    def _choose_travel_sleep(self, day: TripDay, strategy: Strategy, choices: list[DayChoice], anchors: list,
+                             best: Outcome, required: float, arrival: int) -> tuple | None:
+        """Sleep on the day's flights and layovers for ``strategy``: each placement of
+        :func:`planner.trips.travel_sleep.travel_sleep_options` (in the light-avoidance lobe of the
+        predicted CBTmin, Khalsa et al. 2003, J Physiol 549:945) simulated with the plan so far, the one
+        leaving the least shift still to do kept.  Returns (choices, anchors, outcome), or None when the
+        day has no travel spot or nothing to place."""
+        kept = _travel_choice(choices[:day.index])
+        options = travel_sleep_options(self.trip, bed_sleep(self.trip, self._sleep_shifts(choices)), best.cbtmins,
+                                       strategy, (day.start, day.end), kept)
+        if not options:
+            return None
+        trials = []
+        for option in options:
+            trial = list(choices)
+            trial[day.index] = replace(trial[day.index], travel_sleep=option)
+            trials.append(trial)
+        outcomes = self.evaluator.evaluate([self.build(trial, anchors, strategy) for trial in trials])
+        horizon = min(day.index + 1, len(self.days) - 1)
+        scores = [self._remaining(o, horizon, strategy, required, arrival) + self._burden(o) for o in outcomes]
+        pick = int(np.argmin(scores))
+        return trials[pick], self._merge_anchors(anchors, self._anchors(outcomes[pick]), day.index), outcomes[pick]
 
     @staticmethod
     def _merge_anchors(old, new, from_index):
@@ -652,9 +675,8 @@ class TripPlanner:
             new = list(choices)
             for k, i in enumerate(active):
                 bo, bh, ao, ah = vector[4 * k:4 * k + 4]
-                source = choices[i].bright_source
-                new[i] = DayChoice(float(bo), float(round(bh * 4) / 4), source, float(ao), float(round(ah * 4) / 4),
-                                   choices[i].sleep_shift_h)
+                new[i] = replace(choices[i], bright_offset_h=float(bo), bright_hours=float(round(bh * 4) / 4),
+                                 avoid_offset_h=float(ao), avoid_hours=float(round(ah * 4) / 4))
             return new
 
         def objective(population):
@@ -760,12 +782,6 @@ class TripPlanResult:
     citations: list
 
 
-def _whole_minute(moment: datetime, *, up: bool) -> datetime:
-    """``moment`` moved to the whole minute after it (``up``) or before it."""
-    floor = moment.replace(second=0, microsecond=0)
-    return floor + timedelta(minutes=1) if up and floor < moment else floor
-
-
 def _clipped_to_lobes(windows: Sequence[Window], cbtmins: Sequence[datetime], kind: Literal["bright", "avoid"],
                       strategy: Strategy) -> tuple[Window, ...]:
     """Each window cut to its lobe of the nearest simulated CBTmin; pieces under ``MIN_WINDOW_MINUTES`` dropped."""
@@ -820,10 +836,44 @@ def plan_strategy(planner: TripPlanner, strategy: Strategy, *, seed: int = 0) ->
     finals = [keep_to_lobes(planner.evaluator, outcome, strategy) for outcome in finals]
     pick = min((0, 1), key=lambda i: (_days_or_inf(finals[i]), finals[i].score, i))
     picked_choices, picked_anchors, _ = (searched, reference)[pick]
-    return StrategyResult(strategy, finals[pick], greedy_outcome.score, better,
+    picked_choices, final = settle_travel_sleep(planner, strategy, picked_choices, picked_anchors, finals[pick])
+    return StrategyResult(strategy, final, greedy_outcome.score, better,
                           required_shift_h(planner.trip, planner.evaluator, strategy),
                           tuple(picked_choices), tuple(picked_anchors), "reference" if pick else "search",
                           finals[1])
+
+
+def settle_travel_sleep(planner: TripPlanner, strategy: Strategy, choices: Sequence[DayChoice], anchors: Sequence,
+                        outcome: Outcome) -> tuple[list[DayChoice], Outcome]:
+    """The plan with the best travel sleep for its own simulated CBTmin.
+
+    The search chose each travel day's sleep on a CBTmin predicted before that day's light was known;
+    here every placement of :func:`planner.trips.travel_sleep.travel_sleep_options` for the plan's own
+    CBTmin (each in the light-avoidance lobe, Khalsa et al. 2003, J Physiol 549:945) is simulated over
+    the whole trip at the validated step with the plan's windows, travel day by travel day, and the one
+    re-entraining soonest (then the lower score) kept, windows held to their lobes (:func:`keep_to_lobes`).
+    """
+    choices, best = list(choices), outcome
+    for day in planner.days:
+        trials = []
+        for option in travel_sleep_options(planner.trip, bed_sleep(planner.trip, planner._sleep_shifts(choices)),
+                                           best.cbtmins, strategy, (day.start, day.end),
+                                           _travel_choice(choices[:day.index])):
+            trial = [replace(c, travel_sleep=None) if i > day.index else c for i, c in enumerate(choices)]
+            trial[day.index] = replace(trial[day.index], travel_sleep=option)
+            trials.append(trial)
+        if not trials:
+            continue
+        found = planner.evaluator.evaluate([planner.build(t, anchors, strategy) for t in trials], final=True)
+        k = min(range(len(found)), key=lambda i: (_days_or_inf(found[i]), found[i].score))
+        kept = keep_to_lobes(planner.evaluator, found[k], strategy)
+        placed = _travel_choice(choices)
+        # a day the search left without its own placement (it stopped before the day) takes one now: the
+        # lobe rule holds for every plan, as for its windows
+        undecided = not set(trials[k][day.index].travel_sleep.spots) <= set(placed.spots if placed else ())
+        if undecided or (_days_or_inf(kept), kept.score) < (_days_or_inf(best), best.score):
+            choices, best = trials[k], kept
+    return choices, best
 
 
 def _days_or_inf(outcome: Outcome) -> float:
