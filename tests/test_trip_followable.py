@@ -423,3 +423,20 @@ def test_travel_sleep_reaches_the_calendar_and_the_report(own_plans):
     assert "Sleep in flight" in summaries
     assert not any("avoid light" in s.lower() for s in summaries)
     assert "(in flight)" in report_html(document)
+
+
+def test_agenda_marks_a_start_after_midnight_with_its_weekday():
+    # a night that starts after midnight belongs to the evening before it; shown as "00:30" under that
+    # evening's date it reads as the date's first hours (common practice of printed timetables, which
+    # mark the day of a time past midnight; no single source)
+    from planner.cli.agenda import _span
+    from planner.world.localtime import zone_label
+
+    trip, _ = load_trip(builtin_scenario_paths()["frankfurt-vancouver"])
+    evening = trip.start.astimezone(trip.home.zone).replace(hour=23, minute=30)
+    night_after = evening + timedelta(hours=1)             # 00:30 on the next date
+    row_zone = zone_label(trip.start.astimezone(trip.home.zone))
+    block = evening.date()
+    assert _span(trip, evening, night_after + timedelta(hours=7), row_zone, block) == "23:30–07:30"
+    text = _span(trip, night_after, night_after + timedelta(hours=8), row_zone, block)
+    assert text == f"{night_after:%a} 00:30–08:30", text

@@ -8,7 +8,7 @@ wraps at spaces, so no line is wider than the terminal and no word is cut.
 from __future__ import annotations
 
 import math
-from datetime import datetime, timedelta
+from datetime import date, datetime, timedelta
 
 from rich.console import Console
 from rich.markup import escape
@@ -25,17 +25,21 @@ from planner.world.localtime import zone_label
 AGENDA_BELOW_COLUMNS = 110
 
 
-def _hhmm(trip: Trip, moment: datetime, row_zone: str) -> str:
+def _hhmm(trip: Trip, moment: datetime, row_zone: str, block_date: date | None = None) -> str:
+    """Clock time on the row's clock (a zone name marks another clock); with ``block_date``, a
+    time on a later date than the block's carries its weekday ("Mon 00:30"), so a night that
+    starts after midnight is not read as the block's first hours."""
     at = local(trip, moment)
     label = zone_label(at)
-    return at.strftime("%H:%M") + ("" if label == row_zone else f" {label.split()[0]}")
+    weekday = at.strftime("%a ") if block_date is not None and at.date() != block_date else ""
+    return weekday + at.strftime("%H:%M") + ("" if label == row_zone else f" {label.split()[0]}")
 
 
-def _span(trip: Trip, a: datetime, b: datetime, row_zone: str) -> str:
-    return f"{_hhmm(trip, a, row_zone)}–{_hhmm(trip, b, row_zone)}"
+def _span(trip: Trip, a: datetime, b: datetime, row_zone: str, block_date: date | None = None) -> str:
+    return f"{_hhmm(trip, a, row_zone, block_date)}–{_hhmm(trip, b, row_zone)}"
 
 
-def _window_line(trip: Trip, window: Window, row_zone: str) -> tuple[datetime, str]:
+def _window_line(trip: Trip, window: Window, row_zone: str, block_date: date | None = None) -> tuple[datetime, str]:
     minutes = f"{window.minutes:.0f} min"
     if window.source == "dark glasses":
         what = f"light-avoidance, dark glasses {window.lux:.0%}, {minutes}"
@@ -43,7 +47,7 @@ def _window_line(trip: Trip, window: Window, row_zone: str) -> tuple[datetime, s
         what = f"light-avoidance, eye mask (seated, in flight), {minutes}"
     else:
         what = f"bright light, {window.source} {lux_text(window.lux)} lx, {minutes}"
-    return window.start, f"{_span(trip, window.start, window.end, row_zone)}  {what}"
+    return window.start, f"{_span(trip, window.start, window.end, row_zone, block_date)}  {what}"
 
 
 def _error_text(view: DayView) -> str:
@@ -73,12 +77,12 @@ def print_agenda(console: Console, trip: Trip, views: list[DayView], title: str)
         items = []
         for a, b in view.sleep:
             setting = sleep_setting(trip, a, b)
-            items.append((a, f"{_span(trip, a, b, row_zone)}  sleep" + ("" if setting == "bed" else f" {setting}")))
-        items += [_window_line(trip, w, row_zone) for w in view.bright + view.avoid]
+            items.append((a, f"{_span(trip, a, b, row_zone, start.date())}  sleep" + ("" if setting == "bed" else f" {setting}")))
+        items += [_window_line(trip, w, row_zone, start.date()) for w in view.bright + view.avoid]
         for _, text in sorted(items):
             console.print(f"  {escape(text)}")
         if view.cbtmin is not None:
-            console.print(f"  [dim]CBTmin {escape(_hhmm(trip, view.cbtmin, row_zone))}"
+            console.print(f"  [dim]CBTmin {escape(_hhmm(trip, view.cbtmin, row_zone, start.date()))}"
                           f"{escape(_error_text(view))}[/dim]")
         if not items:
             console.print("  [dim]nothing planned[/dim]")
