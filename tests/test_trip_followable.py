@@ -393,6 +393,8 @@ def test_at_80_columns_the_demo_is_an_agenda_with_whole_words_and_the_recommenda
     assert max(len(line) for line in narrow) <= 80
     assert any(line.startswith("Recommended:") for line in narrow[:25])
     assert any(re.match(r"\s+\d\d:\d\d–\d\d:\d\d\s+bright light, ", line) for line in narrow)   # one line per action
+    # the travel day shows the flight itself, on the departure clock (the demo file's 11:00 Lisbon, 07:00 Tokyo)
+    assert any(re.match(r"\s+11:00–07:00 JST\s+flight Lisbon → Tokyo$", line) for line in narrow)
     # the same agenda at 109 columns wraps elsewhere; a word cut at 80 would show as two different words
     wider = demo_output(109)
     assert words(narrow) == words(wider)

@@ -79,6 +79,9 @@ def print_agenda(console: Console, trip: Trip, views: list[DayView], title: str)
             setting = sleep_setting(trip, a, b)
             items.append((a, f"{_span(trip, a, b, row_zone, start.date())}  sleep" + ("" if setting == "bed" else f" {setting}")))
         items += [_window_line(trip, w, row_zone, start.date()) for w in view.bright + view.avoid]
+        items += [(f.depart, f"{_span(trip, f.depart, f.arrive, row_zone, start.date())}  flight "
+                             f"{f.origin.name} → {f.destination.name}")
+                  for f in trip.flights if day.start <= f.depart < day.end]
         for _, text in sorted(items):
             console.print(f"  {escape(text)}")
         if view.cbtmin is not None:
