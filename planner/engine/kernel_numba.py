@@ -10,7 +10,8 @@ grid on its own, and the columns are shared out over the machine's cores with
   [0, h/6], [h/6, 5h/6], [5h/6, h]);
 - the oscillator is advanced with classical fourth-order Runge-Kutta, each stage fed the exact
   mean drive of its sub-window;
-- full steps of one lux level share their maps, computed once per column and level.
+- full steps of one lux level share their maps, computed once per level and distinct set of
+  Process L parameters (one set for a single person, one per person for a population).
 
 So the two paths agree to rounding (tests/test_kernel.py checks 1e-9 on the state).
 
@@ -29,6 +30,7 @@ from __future__ import annotations
 
 import math
 import time
+from contextlib import contextmanager
 from dataclasses import dataclass
 from types import SimpleNamespace
 
@@ -91,6 +93,32 @@ class CompileReport:
 def thread_count() -> int:
     """Threads the compiled kernel uses (numba's current setting); 1 without numba."""
     return int(numba.get_num_threads()) if AVAILABLE else 1
+
+
+#: Work below which a second thread costs more than it saves (measured here on 2 cores shared with
+#: other processes: a trip search batch of 60 schedules ran 1.5-2x slower on 2 threads than on 1):
+#: columns of the integrator, lux levels × columns of the level tables, and steps re-integrated finely.
+COLUMNS_PER_THREAD = 256
+LEVELS_PER_THREAD = 4096
+STEPS_PER_THREAD = 2048
+
+
+@contextmanager
+def threads_for(parts: int):
+    """Run the block's kernel calls on at most ``parts`` threads (at least 1, at most the current setting)."""
+    if not AVAILABLE:
+        yield
+        return
+    before = numba.get_num_threads()
+    wanted = max(1, min(int(parts), before))
+    if wanted == before:
+        yield
+        return
+    numba.set_num_threads(wanted)
+    try:
+        yield
+    finally:
+        numba.set_num_threads(before)
 
 
 def set_thread_count(count: int) -> None:
@@ -285,8 +313,19 @@ if AVAILABLE:
             drive[8, b] = drive[0, b] * n + drive[1, b]
 
     @njit(cache=True, parallel=True)
+    def _level_tables(form, process_l, nominal, levels, level_maps, level_alpha):
+        """Maps of a full step at each lux level, and α at each level, for every column of ``process_l``
+        (one column when the batch shares its Process L parameters)."""
+        for j in prange(level_maps.shape[0]):
+            pl = np.ascontiguousarray(process_l[:, j])
+            for u in range(levels.size):
+                _single_piece(nominal, levels[u], form, pl, level_maps[j, u])
+                level_alpha[j, u] = _activation(levels[u], form, pl[0], pl[2], pl[3])
+
+    @njit(cache=True, parallel=True)
     def _integrate_columns(family, form, coefficients, process_l, lengths, nominal, levels, level_index,
-                           split_first, split_step, split_lengths, split_lux, state0, states, drives, failed):
+                           split_first, split_step, split_lengths, split_lux, state0, states, drives, failed,
+                           level_maps, level_alpha, table_of_column):
         """Integrate every column over the grid; see :func:`integrate_batch` for the arguments.
 
         Columns go in blocks of ``_BLOCK``.  A thread advances its block one step at a time: it
@@ -296,15 +335,13 @@ if AVAILABLE:
         """
         steps = lengths.size
         size = state0.shape[1]
-        level_count = levels.size
         blocks = (size + _BLOCK - 1) // _BLOCK
         for block in prange(blocks):
             first = block * _BLOCK
             width = min(_BLOCK, size - first)
             c = np.empty((coefficients.shape[0], width))
             pl = np.empty((width, 5))
-            per_level = np.empty((width, level_count, 8))
-            alpha_level = np.empty((width, level_count))
+            table = np.empty(width, dtype=np.int64)    # the row of level_maps / level_alpha of each column
             x = np.empty(width)
             xc = np.empty(width)
             # Rows 0-7: the step's maps (n_gain, n_offset, drive gains, drive offsets); row 8: n.
@@ -315,9 +352,7 @@ if AVAILABLE:
                 j = first + b
                 c[:, b] = coefficients[:, j]
                 pl[b] = process_l[:, j]
-                for u in range(level_count):
-                    _single_piece(nominal, levels[u], form, pl[b], per_level[b, u])
-                    alpha_level[b, u] = _activation(levels[u], form, pl[b, 0], pl[b, 2], pl[b, 3])
+                table[b] = table_of_column[j]
                 x[b] = state0[0, j]
                 xc[b] = state0[1, j]
                 drive[8, b] = state0[2, j]
@@ -332,7 +367,7 @@ if AVAILABLE:
                 for b in range(width):
                     j = first + b
                     level = level_index[k, j]
-                    drives[k, j] = pl[b, 4] * alpha_level[b, level] * (1.0 - drive[8, b])
+                    drives[k, j] = pl[b, 4] * level_alpha[table[b], level] * (1.0 - drive[8, b])
                     if split[b] < split_first[j + 1] and split_step[split[b]] == k:
                         _pieces(split_lengths[split[b]], split_lux[split[b]], form, pl[b], maps)
                         split[b] += 1
@@ -344,7 +379,7 @@ if AVAILABLE:
                             drive[f, b] = maps[f]
                     else:
                         for f in range(8):
-                            drive[f, b] = per_level[b, level, f]
+                            drive[f, b] = level_maps[table[b], level, f]
                 if family == 0:
                     _forger_steps(x, xc, drive, c, h, width)
                 elif family == 1:
@@ -368,7 +403,7 @@ if AVAILABLE:
                 if steps == 0:
                     drives[0, j] = 0.0
                 else:
-                    drives[steps, j] = pl[b, 4] * alpha_level[b, level_index[steps - 1, j]] * (1.0 - drive[8, b])
+                    drives[steps, j] = pl[b, 4] * level_alpha[table[b], level_index[steps - 1, j]] * (1.0 - drive[8, b])
 
 
     @njit(cache=True, parallel=True)
@@ -495,10 +530,11 @@ def fine_steps(result, rows: np.ndarray, columns: np.ndarray, substeps: int) -> 
     columns = np.ascontiguousarray(columns, dtype=np.int64)
     out_times = np.empty((substeps + 1, rows.size))
     out_path = np.empty((substeps + 1, 2, rows.size))
-    _fine_columns(FAMILY_CODES[model.family.key], FORM_CODES[model.process_l.form], coefficients, process_l,
-                  np.ascontiguousarray(result.times, dtype=float), rows, columns,
-                  np.ascontiguousarray(result.states), levels, level_index, split_first, split_step, split_lengths,
-                  split_lux, int(substeps), out_times, out_path)
+    with threads_for(rows.size // STEPS_PER_THREAD):
+        _fine_columns(FAMILY_CODES[model.family.key], FORM_CODES[model.process_l.form], coefficients, process_l,
+                      np.ascontiguousarray(result.times, dtype=float), rows, columns,
+                      np.ascontiguousarray(result.states), levels, level_index, split_first, split_step,
+                      split_lengths, split_lux, int(substeps), out_times, out_path)
     return out_times, out_path
 
 
@@ -526,9 +562,20 @@ def integrate_batch(model, light, state0: np.ndarray) -> tuple[np.ndarray, np.nd
     drives = np.empty((steps + 1, size))
     failed = np.empty(size, dtype=np.int64)
     coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux = batch
-    _integrate_columns(FAMILY_CODES[family.key], FORM_CODES[pl.form], coefficients, process_l, lengths, nominal,
-                       levels, level_index, split_first, split_step, split_lengths, split_lux,
-                       np.ascontiguousarray(state0, dtype=float), states, drives, failed)
+    form = FORM_CODES[pl.form]
+    # The maps of a full step at each lux level depend only on Process L: computed once for each
+    # distinct set of its parameters (one for a single person; one per person for C candidates × N people)
+    distinct, table_of_column = np.unique(process_l, axis=1, return_inverse=True)
+    distinct = np.ascontiguousarray(distinct)
+    level_maps = np.empty((distinct.shape[1], levels.size, 8))
+    level_alpha = np.empty((distinct.shape[1], levels.size))
+    with threads_for(distinct.shape[1] * levels.size // LEVELS_PER_THREAD):
+        _level_tables(form, distinct, nominal, levels, level_maps, level_alpha)
+    with threads_for(size // COLUMNS_PER_THREAD):
+        _integrate_columns(FAMILY_CODES[family.key], form, coefficients, process_l, lengths, nominal,
+                           levels, level_index, split_first, split_step, split_lengths, split_lux,
+                           np.ascontiguousarray(state0, dtype=float), states, drives, failed, level_maps, level_alpha,
+                           np.ascontiguousarray(table_of_column.reshape(-1), dtype=np.int64))
     bad = np.nonzero(failed >= 0)[0]
     if bad.size == 0:
         return states, drives, None

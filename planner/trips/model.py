@@ -14,6 +14,7 @@ Everything is computed in UTC; local times are for display.
 
 from __future__ import annotations
 
+import bisect
 from dataclasses import dataclass, field
 from datetime import date, datetime, timedelta, timezone
 from functools import cached_property, lru_cache
@@ -319,12 +320,23 @@ def _fit_sleep_around_flights(trip: Trip, episodes):
 
 def daylight_within(trip: Trip, place: Place, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
     """Parts of [start, end] with the sun up at ``place``."""
+    ups, up_ends = _sun_spans(trip, place)
     spans = []
-    for a, b in sun_up(place, trip.start - timedelta(days=1), trip.end + timedelta(days=1)):
+    # spans ending at or before ``start`` cannot overlap it: start from the first that ends after
+    for a, b in ups[bisect.bisect_right(up_ends, start):]:
+        if a >= end:
+            break
         lo, hi = max(a, start), min(b, end)
         if hi > lo:
             spans.append((lo, hi))
     return spans
+
+
+@lru_cache(maxsize=256)
+def _sun_spans(trip: Trip, place: Place) -> tuple[tuple, list]:
+    """The sun-up spans at ``place`` around the trip, in time order, and their ends."""
+    ups = tuple(sorted(sun_up(place, trip.start - timedelta(days=1), trip.end + timedelta(days=1))))
+    return ups, [b for _, b in ups]
 
 
 @lru_cache(maxsize=64)
@@ -344,19 +356,26 @@ def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
 
 def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
     """The light at the eye for a plan (layer order in the module docstring)."""
-    layers: list[LightLayer] = list(baseline_daylight(trip))
-    for window in plan.bright:
-        if window.source == "light box":
-            layers.append(light_box(window.start, window.end, window.lux))
-        elif window.source == "daylight" and where_at(trip, window.start) is not None:
-            layers.extend(daylight_for(trip.light, where_at(trip, window.start), window.start, window.end))
-        else:
-            layers.append(ambient(window.start, window.end, window.lux, window.source))
-    layers.extend(_cabin_layers(trip))
-    for window in plan.avoid:
-        layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
-    layers.extend(_sleep_layers(tuple(plan.sleep)))
-    return LightSchedule.from_layers(trip.start, trip.end, trip.light.indoor_lux, layers)
+    glasses = [_glasses_layers(window.start, window.end, trip.light.glasses_transmission) for window in plan.avoid]
+    # every group of layers is a tuple kept by a cache, converted once (LightSchedule.from_layer_groups)
+    groups = [baseline_daylight(trip), *(_bright_layers(trip, window) for window in plan.bright), _cabin_layers(trip),
+              *glasses, _sleep_layers(tuple(plan.sleep))]
+    return LightSchedule.from_layer_groups(trip.start, trip.end, trip.light.indoor_lux, groups)
+
+
+@lru_cache(maxsize=8192)
+def _bright_layers(trip: Trip, window: Window) -> tuple[LightLayer, ...]:
+    """The layers of a bright-light window (searches place the same windows in many plans)."""
+    if window.source == "light box":
+        return (light_box(window.start, window.end, window.lux),)
+    if window.source == "daylight" and where_at(trip, window.start) is not None:
+        return tuple(daylight_for(trip.light, where_at(trip, window.start), window.start, window.end))
+    return (ambient(window.start, window.end, window.lux, window.source),)
+
+
+@lru_cache(maxsize=8192)
+def _glasses_layers(start: datetime, end: datetime, transmission: float) -> tuple[LightLayer, ...]:
+    return (dark_glasses(start, end, transmission),)
 
 
 @lru_cache(maxsize=64)

@@ -444,7 +444,12 @@ class TripPlanner:
         self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
                                    initial_state=initial_state)
         self.days = self.evaluator.days
-        self._placed: dict = {}   # see build
+        # see build: placements by (state number, choice, anchor, strategy), the states by number
+        # and the numbers by state
+        self._placed: dict = {}
+        self._states: list = []
+        self._state_numbers: dict = {}
+        self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
@@ -456,25 +461,40 @@ class TripPlanner:
                 shifts.append(cumulative)
         sleep = tuple(habitual_sleep(self.trip, shifts))
         # The windows of a day depend only on the days before it, so the windows placed up to
-        # each day are remembered (searches vary one day of otherwise equal plans).
-        placed: tuple = (sleep, (), (), ())     # sleep, bright, avoid, used minutes per (day, source)
+        # each day are remembered (searches vary one day of otherwise equal plans).  A state of
+        # placement is known by its number, which keeps the keys cheap to look up.
         if len(self._placed) > PLACED_CACHE_SIZE:
             self._placed.clear()
+            self._states.clear()
+            self._state_numbers.clear()
+        state = self._state_number((sleep, (), (), ()))   # sleep, bright, avoid, used minutes per (day, source)
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
-            key = (placed, choice, anchor, strategy)
+            key = (state, choice, anchor, strategy)
             following = self._placed.get(key)
             if following is None:
-                following = self._placed[key] = self._place_day(placed, choice, anchor, strategy)
-            placed = following
+                following = self._placed[key] = self._state_number(
+                    self._place_day(self._states[state], choice, anchor, strategy))
+            state = following
+        placed = self._states[state]
         return Plan(sleep, placed[1], placed[2])
+
+    def _state_number(self, placed: tuple) -> int:
+        """The number of a state of placement (see :meth:`build`), given one if it is new."""
+        number = self._state_numbers.get(placed)
+        if number is None:
+            number = self._state_numbers[placed] = len(self._states)
+            self._states.append(placed)
+        return number
 
     def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime, strategy: Strategy) -> tuple:
         """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
         sleep, bright, avoid, used_items = placed
         bright, avoid, used = list(bright), list(avoid), dict(used_items)
-        forbidden = _forbidden(self.trip, sleep)
+        forbidden = self._forbidden_of.get(sleep)
+        if forbidden is None:
+            forbidden = self._forbidden_of[sleep] = _forbidden(self.trip, sleep)
         caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
         # A day's windows sit on either side of its CBTmin, so they may fall on the evening
         # before the day (delaying light before a CBTmin just after midnight): each is bounded
