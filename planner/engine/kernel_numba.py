@@ -500,8 +500,22 @@ def _packed(namespace_or_values, names, size: int) -> np.ndarray:
     return rows
 
 
+#: The last batch's arrays with its model and light: the markers re-integrate steps of the batch just
+#: integrated (:func:`fine_steps`), which then need not pack it again.
+_LAST_BATCH: list = [None, None, None]
+
+
 def _batch_arrays(model, light) -> tuple[np.ndarray, ...]:
     """The kernel's view of a batch: packed coefficients, lux levels and split steps grouped by column."""
+    last_model, last_light, arrays = _LAST_BATCH
+    if last_model is model and last_light is light:
+        return arrays
+    arrays = _pack_batch(model, light)
+    _LAST_BATCH[:] = [model, light, arrays]
+    return arrays
+
+
+def _pack_batch(model, light) -> tuple[np.ndarray, ...]:
     size = light.size
     coefficients = _packed(lambda name: getattr(model.coefficients, name), COEFFICIENT_ORDER[model.family.key], size)
     process_l = _packed(lambda name: getattr(model.process_l, name), PROCESS_L_ORDER, size)

@@ -33,7 +33,6 @@ from planner.engine.markers import (
     HOURS_PER_DAY,
     cbtmin_times,
     phase_difference,
-    reentrainment,
 )
 from planner.engine.parameters import ModelSpec, load_model
 from planner.engine.population import (
@@ -64,7 +63,6 @@ from planner.trips.search import (
     TripPlanner,
     TripPlanResult,
     keep_to_lobes,
-    person_score,
     plan_burden_days,
     target_place,
 )
@@ -196,13 +194,16 @@ class TripPopulation:
         ends = np.array([hours_between(epoch, d.end) for d in days])
         clocks = np.full((len(days), columns), np.nan)
         times = np.full((len(days), columns), np.nan)
-        for j, m in enumerate(markers):
-            if m.size == 0:
-                continue
-            index = np.searchsorted(m, ends, side="left") - 1
-            value = m[np.clip(index, 0, None)]
-            found = (index >= 0) & (value >= starts)
-            times[found, j] = value[found]
+        # each day's last marker before its end, for every column at once (markers padded with +inf)
+        width = max((m.size for m in markers), default=0)
+        if width:
+            padded = np.full((columns, width), np.inf)
+            for j, m in enumerate(markers):
+                padded[j, :m.size] = m
+            index = (padded[:, :, None] < ends[None, None, :]).sum(axis=1) - 1          # (C, D)
+            value = np.take_along_axis(padded, np.clip(index, 0, None), axis=1)
+            found = (index >= 0) & (value >= starts[None, :])
+            times.T[found] = value[found]
         epoch_hour = epoch.hour + epoch.minute / 60 + epoch.second / 3600
         errors = np.full_like(clocks, np.nan)
         person = np.arange(columns) % self.size
@@ -255,13 +256,8 @@ class TripPopulation:
                 days[held] = 0.0
                 scores[:] = np.where(held, 0.0, stay_days + 5.0)
             else:
-                for j in range(size):
-                    settled = reentrainment(stay[:, j], 0.0, REENTRAINMENT_TOLERANCE_H)
-                    if settled.day is not None:
-                        days[j] = settled.day
-                    scores[j] = person_score(settled.day, stay[:, j])
-                moved = np.where(np.abs(net) < 1.0, "none", np.where(net > 0, "delay", "advance"))
-                wrong = (moved != intended[c]) & (moved != "none") & (intended[c] != "none")
+                days, scores = people_reentrainment(stay)
+                wrong = _wrong_direction(net, intended[c])
             summary = population_success(days, wrong, by_day, person_scores=scores + plan_burden_days(ev.trip, plan))
             curve = np.array([(days <= d).mean() for d in range(stay_days)])
             fan = _fan(clocks[:, cols])
@@ -271,6 +267,52 @@ class TripPopulation:
                                  float(summary.wrong_direction[0]), [d.local_date for d in ev.days], fan,
                                  float(summary.score[0]), days))
         return out
+
+
+    def scores(self, plans: Sequence[Plan], intended: Sequence[str], *, by_day: int | None = None) -> np.ndarray:
+        """The robust score of each plan (aim "route"): :attr:`PlanStats.score` of :meth:`stats`, the same
+        numbers, without the rest of the statistics (the robust search needs only the score)."""
+        ev = self.evaluator
+        markers = self.simulate(plans)
+        times, _, errors = self._clocks(markers, "route")
+        arrival, back = ev.arrival_index(), ev.return_index()
+        stay_days = max(back - arrival, 1)
+        by_day = stay_days - 1 if by_day is None else int(by_day)
+        size = self.size
+        days, scores, wrong = (np.empty((len(plans), size)) for _ in range(3))
+        for c, plan in enumerate(plans):
+            cols = slice(c * size, (c + 1) * size)
+            days[c], scores[c] = people_reentrainment(errors[arrival:back, cols])
+            scores[c] += plan_burden_days(ev.trip, plan)
+            wrong[c] = _wrong_direction(_net_shift_h(times[:back, cols]), intended[c])
+        return population_success(days, wrong.astype(bool), by_day, person_scores=scores).score
+
+
+def people_reentrainment(stay: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each person's days to re-entrain (inf when not within the time away) and score before the plan's
+    burden, from the daily CBTmin errors over the time away ``stay`` (S, N) [h]: per column, what
+    :func:`planner.engine.markers.reentrainment` (target 0, the re-entrainment tolerance) and
+    :func:`planner.trips.search.person_score` give, computed for all columns at once."""
+    errors = phase_difference(stay, 0.0)
+    ok = (np.abs(errors) <= REENTRAINMENT_TOLERANCE_H) & np.isfinite(errors)
+    count = stay.shape[0]
+    settled = ok[-1] if count else np.zeros(stay.shape[1], dtype=bool)
+    # the day after the last day out of tolerance (0 when none is)
+    failing = np.where(~ok, np.arange(count)[:, None], -1).max(axis=0, initial=-1)
+    days = np.where(settled, failing + 1.0, np.inf)
+    # person_score: days needed (the days away + 5 when never) + a twentieth of the mean |error|
+    magnitude = np.ascontiguousarray(np.abs(stay).T)      # rows: people, as person_score reads each
+    finite = np.isfinite(magnitude).any(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        residual = np.where(finite, np.nanmean(np.where(finite[:, None], magnitude, 0.0), axis=1), 12.0)
+    needed = np.where(settled, failing + 1.0, count + 5.0)
+    return days, needed + 0.05 * residual
+
+
+def _wrong_direction(net_h: np.ndarray, intended: str) -> np.ndarray:
+    """Whether each clock moved (net ``net_h`` [h], under 1 h counts as not moving) the other way than intended."""
+    moved = np.where(np.abs(net_h) < 1.0, "none", np.where(net_h > 0, "delay", "advance"))
+    return (moved != intended) & (moved != "none") & (intended != "none")
 
 
 def place_targets(evaluator: Evaluator, population: Population, steady: dict | None = None) -> dict[str, np.ndarray]:
@@ -296,10 +338,16 @@ def _net_shift_h(times: np.ndarray) -> np.ndarray:
     """Net movement of each column's daily CBTmin [h] (as :func:`planner.trips.search._net_shift_h`:
     the sum of daily moves, each the shortest way round the clock), shape (C,)."""
     out = np.zeros(times.shape[1])
-    for j in range(times.shape[1]):
-        known = times[np.isfinite(times[:, j]), j]
-        if known.size > 1:
-            out[j] = float(np.sum(phase_difference(np.mod(np.diff(known), HOURS_PER_DAY), 0.0)))
+    rows = np.ascontiguousarray(times.T)     # one row per column
+    finite = np.isfinite(rows)
+    counts = finite.sum(axis=1)
+    # each row's known times moved to its front, in order; rows with as many known times go together,
+    # so that each row's moves are summed exactly as a row of its own would be
+    known = np.take_along_axis(rows, np.argsort(~finite, axis=1, kind="stable"), axis=1)
+    for count in np.unique(counts[counts > 1]):
+        same = counts == count
+        out[same] = np.sum(phase_difference(np.mod(np.diff(known[same, :count], axis=1), HOURS_PER_DAY), 0.0),
+                           axis=1)
     return out
 
 
@@ -400,10 +448,10 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
 
         def score(plans, strategy=strategy):
             nonlocal done
-            values = [s.score for s in crowd.stats(plans, [strategy] * len(plans), by_day=by_day)]
+            values = crowd.scores(plans, [strategy] * len(plans), by_day=by_day)
             done += 1
             progress("robust search", min(done, generations), generations)
-            return np.array(values)
+            return values
 
         choices, _ = planner.refine(strategy, list(seed_result.choices), anchors, seed=seed, maxiter=maxiter,
                                     score_plans=score, extra_seeds=_variants(seed_result.choices, strategy))
