@@ -14,7 +14,6 @@ Everything is computed in UTC; local times are for display.
 
 from __future__ import annotations
 
-import bisect
 from dataclasses import dataclass, field
 from datetime import date, datetime, timedelta, timezone
 from functools import cached_property, lru_cache
@@ -26,7 +25,7 @@ from planner.engine.entrainment import BASELINE_OUTDOOR_H, entrain, place_patter
 from planner.engine.markers import HOURS_PER_DAY
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
-from planner.intervals import free_segments
+from planner.intervals import free_segments, parts_inside
 from planner.world.daylight import daylight_for
 from planner.world.light import (
     LightLayer,
@@ -320,16 +319,7 @@ def _fit_sleep_around_flights(trip: Trip, episodes):
 
 def daylight_within(trip: Trip, place: Place, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
     """Parts of [start, end] with the sun up at ``place``."""
-    ups, up_ends = _sun_spans(trip, place)
-    spans = []
-    # spans ending at or before ``start`` cannot overlap it: start from the first that ends after
-    for a, b in ups[bisect.bisect_right(up_ends, start):]:
-        if a >= end:
-            break
-        lo, hi = max(a, start), min(b, end)
-        if hi > lo:
-            spans.append((lo, hi))
-    return spans
+    return parts_inside(*_sun_spans(trip, place), start, end)
 
 
 @lru_cache(maxsize=256)
