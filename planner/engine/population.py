@@ -42,7 +42,7 @@ from typing import Sequence
 import numpy as np
 
 from planner.engine.entrainment import DailyPattern, EntrainmentResult, entrain
-from planner.engine.integrate import SimulationResult, default_step_h, integrate, model_batch_size, simulate
+from planner.engine.integrate import SimulationResult, default_step_h, integrate, model_batch_size
 from planner.engine.process_l import MINUTES_PER_HOUR
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError

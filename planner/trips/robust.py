@@ -55,6 +55,7 @@ from planner.trips.evidence import (
     starting_phase,
 )
 from planner.trips.model import Plan, Trip, plan_schedule
+from planner.trips.scoring import net_shifts_h, people_reentrainment
 from planner.trips.search import (
     REENTRAINMENT_TOLERANCE_H,
     Aim,
@@ -249,7 +250,7 @@ class TripPopulation:
             days = np.full(size, np.inf)
             scores = np.empty(size)
             wrong = np.zeros(size, bool)
-            net = _net_shift_h(times[:back, cols])
+            net = net_shifts_h(times[:back, cols])
             if aim == "home":
                 held = np.nanmax(np.abs(stay), axis=0, initial=0.0) <= REENTRAINMENT_TOLERANCE_H
                 held &= np.all(np.isfinite(stay), axis=0)
@@ -284,29 +285,8 @@ class TripPopulation:
             cols = slice(c * size, (c + 1) * size)
             days[c], scores[c] = people_reentrainment(errors[arrival:back, cols])
             scores[c] += plan_burden_days(ev.trip, plan)
-            wrong[c] = _wrong_direction(_net_shift_h(times[:back, cols]), intended[c])
+            wrong[c] = _wrong_direction(net_shifts_h(times[:back, cols]), intended[c])
         return population_success(days, wrong.astype(bool), by_day, person_scores=scores).score
-
-
-def people_reentrainment(stay: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Each person's days to re-entrain (inf when not within the time away) and score before the plan's
-    burden, from the daily CBTmin errors over the time away ``stay`` (S, N) [h]: per column, what
-    :func:`planner.engine.markers.reentrainment` (target 0, the re-entrainment tolerance) and
-    :func:`planner.trips.search.person_score` give, computed for all columns at once."""
-    errors = phase_difference(stay, 0.0)
-    ok = (np.abs(errors) <= REENTRAINMENT_TOLERANCE_H) & np.isfinite(errors)
-    count = stay.shape[0]
-    settled = ok[-1] if count else np.zeros(stay.shape[1], dtype=bool)
-    # the day after the last day out of tolerance (0 when none is)
-    failing = np.where(~ok, np.arange(count)[:, None], -1).max(axis=0, initial=-1)
-    days = np.where(settled, failing + 1.0, np.inf)
-    # person_score: days needed (the days away + 5 when never) + a twentieth of the mean |error|
-    magnitude = np.ascontiguousarray(np.abs(stay).T)      # rows: people, as person_score reads each
-    finite = np.isfinite(magnitude).any(axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        residual = np.where(finite, np.nanmean(np.where(finite[:, None], magnitude, 0.0), axis=1), 12.0)
-    needed = np.where(settled, failing + 1.0, count + 5.0)
-    return days, needed + 0.05 * residual
 
 
 def _wrong_direction(net_h: np.ndarray, intended: str) -> np.ndarray:
@@ -332,23 +312,6 @@ def place_targets(evaluator: Evaluator, population: Population, steady: dict | N
             steady[pattern] = entrain_people(population.model, pattern)
         targets[name] = np.broadcast_to(steady[pattern].cbtmin_clock_h, (population.size,)).copy()
     return targets
-
-
-def _net_shift_h(times: np.ndarray) -> np.ndarray:
-    """Net movement of each column's daily CBTmin [h] (as :func:`planner.trips.search._net_shift_h`:
-    the sum of daily moves, each the shortest way round the clock), shape (C,)."""
-    out = np.zeros(times.shape[1])
-    rows = np.ascontiguousarray(times.T)     # one row per column
-    finite = np.isfinite(rows)
-    counts = finite.sum(axis=1)
-    # each row's known times moved to its front, in order; rows with as many known times go together,
-    # so that each row's moves are summed exactly as a row of its own would be
-    known = np.take_along_axis(rows, np.argsort(~finite, axis=1, kind="stable"), axis=1)
-    for count in np.unique(counts[counts > 1]):
-        same = counts == count
-        out[same] = np.sum(phase_difference(np.mod(np.diff(known[same, :count], axis=1), HOURS_PER_DAY), 0.0),
-                           axis=1)
-    return out
 
 
 def _fan(clocks: np.ndarray) -> dict:

@@ -40,7 +40,6 @@ from planner.engine.markers import (
     HOURS_PER_DAY,
     cbtmin_times,
     phase_difference,
-    reentrainment,
 )
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError
@@ -60,6 +59,7 @@ from planner.trips.model import (
     trip_days,
     where_at,
 )
+from planner.trips.scoring import REENTRAINMENT_TOLERANCE_H, net_shifts_h, people_reentrainment
 from planner.world.daylight import mean_daylight_for
 from planner.world.light import Window, hours_between
 from planner.world.places import Place
@@ -69,8 +69,6 @@ Strategy = Literal["advance", "delay"]
 #: What a plan aims at: the clock of each day's place on the route, or home time throughout.
 Aim = Literal["route", "home"]
 
-#: Tolerance for "re-entrained": CBTmin within 1 h of the target (the issue's definition; common practice).
-REENTRAINMENT_TOLERANCE_H = 1.0
 #: Burden penalty per minute of light box and per hour of sleep displacement, in days of
 #: re-entrainment: small so it only breaks near-ties (a design choice of this planner).
 BOX_MINUTE_PENALTY_DAYS = 0.002
@@ -234,7 +232,7 @@ class Evaluator:
         markers = cbtmin_times(result)
         amplitude = self.model.family.amplitude(np.moveaxis(result.states[:, :2, :], 1, 0))
         ratio = np.nanmin(amplitude, axis=0) / self.reference_amplitude
-        return [self._outcome(plan, markers[j], float(ratio[j]), aim) for j, plan in enumerate(plans)]
+        return self._outcomes(plans, markers, ratio, aim)
 
     def _day_table(self, aim: Aim) -> tuple[list[Place], np.ndarray, np.ndarray, list[float]]:
         """Per day: the place aimed at, its bounds [h since trip start] and the target clock [h]."""
@@ -248,37 +246,51 @@ class Evaluator:
                 [self.target_clock[place.name] for place in places])
         return table
 
-    def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float, aim: Aim = "route") -> Outcome:
+    def _outcomes(self, plans: Sequence[Plan], markers: list[np.ndarray], amplitude_ratio: np.ndarray,
+                  aim: Aim = "route") -> list[Outcome]:
+        """The outcome of each plan from its CBTmin times [h since the trip's start]; re-entrainment, net
+        shift and score of all plans at once (:mod:`planner.trips.scoring`: the same numbers)."""
         epoch = self.trip.start
         places, day_start, day_end, target = self._day_table(aim)
-        # Each day's CBTmin is the last marker inside it (markers are in time order).
-        last = np.searchsorted(marker_h, day_end, side="left") - 1
-        found = (last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0
-        day_outcomes, moments_h = [], []
-        for i, day in enumerate(self.days):
-            if found[i]:
-                hours = float(marker_h[last[i]])
-                moment = epoch + timedelta(hours=hours)
-                local = moment.astimezone(places[i].zone)
-                clock = local.hour + local.minute / 60 + local.second / 3600
-                error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
-                error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
-                moments_h.append((i, hours))
-            else:
-                moment, error = None, math.nan
-            day_outcomes.append(DayOutcome(day, places[i], moment, error))
+        errors = np.full((len(self.days), len(plans)), np.nan)     # CBTmin − target per day and plan [h]
+        cbtmin_h = np.full_like(errors, np.nan)
+        days_of = []
+        for j, marker_h in enumerate(markers):
+            # Each day's CBTmin is the last marker inside it (markers are in time order).
+            last = np.searchsorted(marker_h, day_end, side="left") - 1
+            found = ((last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0).tolist()
+            last = last.tolist()
+            day_outcomes = []
+            for i, day in enumerate(self.days):
+                if found[i]:
+                    hours = float(marker_h[last[i]])
+                    moment = epoch + timedelta(hours=hours)
+                    local = moment.astimezone(places[i].zone)
+                    clock = local.hour + local.minute / 60 + local.second / 3600
+                    error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
+                    error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
+                    errors[i, j], cbtmin_h[i, j] = error, hours
+                else:
+                    moment, error = None, math.nan
+                day_outcomes.append(DayOutcome(day, places[i], moment, error))
+            days_of.append(day_outcomes)
         # Re-entrainment, net shift and direction describe the time away: from the arrival day
         # until the day of the flight back home (the whole rest of a one-way trip).
         arrival, back = self.arrival_index(), self.return_index()
-        stay = np.array([o.error_h for o in day_outcomes[arrival:back]])
-        settled = reentrainment(stay, 0.0, REENTRAINMENT_TOLERANCE_H)
-        net = _net_shift_h([hours for i, hours in moments_h if i < back])
-        direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
-        score = person_score(settled.day, stay) + plan_burden_days(self.trip, plan)
-        finite = np.abs(stay[np.isfinite(stay)])
-        largest = float(finite.max()) if finite.size else math.nan
-        every = tuple(epoch + timedelta(hours=float(h)) for h in marker_h if math.isfinite(h))
-        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest, every)
+        stay = errors[arrival:back]
+        settled, person = people_reentrainment(stay)
+        net = net_shifts_h(cbtmin_h[:back])
+        largest = np.where(np.isfinite(stay), np.abs(stay), -np.inf).max(axis=0, initial=-np.inf)
+        outcomes = []
+        for j, plan in enumerate(plans):
+            shift = float(net[j])
+            direction = "none" if abs(shift) < 1.0 else ("delay" if shift > 0 else "advance")
+            score = float(person[j] + plan_burden_days(self.trip, plan))
+            every = tuple(epoch + timedelta(hours=float(h)) for h in markers[j] if math.isfinite(h))
+            outcomes.append(Outcome(plan, days_of[j], None if math.isinf(settled[j]) else int(settled[j]), shift,
+                                    direction, float(amplitude_ratio[j]), score, aim,
+                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, every))
+        return outcomes
 
 
 def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
