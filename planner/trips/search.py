@@ -462,6 +462,7 @@ class TripPlanner:
         self._states: list = []
         self._state_numbers: dict = {}
         self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
+        self._lattice_of: dict = {}     # (anchor, offset) -> window start (_lattice_after)
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
@@ -514,7 +515,7 @@ class TripPlanner:
         if choice.bright_hours > 0:
             lo, hi = lobe(anchor, "bright", strategy)
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
-            s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
+            s = self._lattice_after(anchor, choice.bright_offset_h)
             e = s + timedelta(hours=choice.bright_hours)
             taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
             window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
@@ -530,13 +531,23 @@ class TripPlanner:
         if choice.avoid_hours > 0:
             lo, hi = lobe(anchor, "avoid", strategy)
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
-            s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
+            s = self._lattice_after(anchor, choice.avoid_offset_h)
             e = s + timedelta(hours=choice.avoid_hours)
             taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
             window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", taken)
             if window is not None:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
+
+    def _lattice_after(self, anchor: datetime, offset_h: float) -> datetime:
+        """``_lattice(anchor + offset_h)``, remembered (the searches ask for the same few offsets of each anchor)."""
+        key = (anchor, offset_h)
+        moment = self._lattice_of.get(key)
+        if moment is None:
+            if len(self._lattice_of) > PLACED_CACHE_SIZE:
+                self._lattice_of.clear()
+            moment = self._lattice_of[key] = _lattice(anchor + timedelta(hours=offset_h))
+        return moment
 
     def _day_index(self, moment: datetime) -> int:
         """Index of the trip day holding ``moment`` (the last day for the trip's end)."""
