@@ -3,7 +3,8 @@
 The numpy path in :mod:`planner.engine.integrate` advances all N schedules together one step at a
 time; this kernel turns the loops round: every schedule (column) is integrated over the whole
 grid on its own, and the columns are shared out over the machine's cores with
-``numba.prange``.  The arithmetic is the same, term for term and in the same order:
+``numba.prange``.  The arithmetic is the same, term for term and in the same order (but for
+hannay2019's cos ψ and sin ψ, computed once per step and turned through the Runge-Kutta stages):
 
 - Process L is advanced exactly through each piece of constant light (the closed-form maps of
   :func:`planner.engine.process_l.step_maps`, with the mean drive over the Runge-Kutta sub-windows
@@ -218,14 +219,29 @@ if AVAILABLE:
         return d0, d1
 
     @njit(cache=True)
-    def _hannay_derivatives(r, psi, u, c, b):
+    def _turned(cos_a, sin_a, d):
+        """cos and sin of a + d from those of a, for the small turn d [rad] of one Runge-Kutta stage.
+
+        Below 0.5 rad the Taylor series of cos d and sin d to d¹⁴ and d¹³ (remainder under 1e-17)
+        replace two calls of the transcendental functions; a larger turn calls them."""
+        if abs(d) < 0.5:
+            q = d * d
+            sin_d = d * (1.0 - q / 6.0 * (1.0 - q / 20.0 * (1.0 - q / 42.0 * (1.0 - q / 72.0 * (
+                1.0 - q / 110.0 * (1.0 - q / 156.0))))))
+            cos_d = 1.0 - q / 2.0 * (1.0 - q / 12.0 * (1.0 - q / 30.0 * (1.0 - q / 56.0 * (
+                1.0 - q / 90.0 * (1.0 - q / 132.0 * (1.0 - q / 182.0))))))
+        else:
+            sin_d = math.sin(d)
+            cos_d = math.cos(d)
+        return cos_a * cos_d - sin_a * sin_d, sin_a * cos_d + cos_a * sin_d
+
+    @njit(cache=True)
+    def _hannay_derivatives(r, cos_psi, sin_psi, u, c, b):
         """Hannay, Booth & Forger (2019): dR/dt = −γ·R + (K/2)·cos(β1)·R·(1 − R⁴) + L_R,
-        dψ/dt = ω0 + (K/2)·sin(β1)·(1 + R⁴) + L_ψ."""
+        dψ/dt = ω0 + (K/2)·sin(β1)·(1 + R⁴) + L_ψ; ψ given by its cosine and sine."""
         r4 = r * r * r * r
         r8 = r4 * r4
         # cos/sin of ψ + βL1 and 2ψ + βL2 by the angle-addition formulas, as in planner.engine.oscillators.
-        cos_psi = math.cos(psi)
-        sin_psi = math.sin(psi)
         cos_2psi = cos_psi * cos_psi - sin_psi * sin_psi
         sin_2psi = 2.0 * sin_psi * cos_psi
         cos_first = cos_psi * c[6, b] - sin_psi * c[7, b]
@@ -294,7 +310,10 @@ if AVAILABLE:
 
         ``drive`` rows 2–4 are the stages' mean-drive gains and rows 5–7 their offsets, affine in
         n (row 8), which rows 0–1 advance.  One loop per family on purpose: with the family
-        tested inside the loop the compiler no longer vectorises it (measured 2.7× slower)."""
+        tested inside the loop the compiler no longer vectorises it (measured 2.7× slower).
+        cos ψ and sin ψ are computed once per step; each later stage turns them by its small
+        increment of ψ (:func:`_turned`), where the numpy kernel calls cos and sin at every stage:
+        the two agree to rounding (tests/test_kernel.py)."""
         half = 0.5 * h
         sixth = h / 6.0
         for b in range(width):
@@ -304,10 +323,15 @@ if AVAILABLE:
             u_last = drive[4, b] * n + drive[7, b]
             y0 = x[b]
             y1 = xc[b]
-            a0, a1 = _hannay_derivatives(y0, y1, u_first, c, b)
-            b0, b1 = _hannay_derivatives(y0 + half * a0, y1 + half * a1, u_middle, c, b)
-            c0, c1 = _hannay_derivatives(y0 + half * b0, y1 + half * b1, u_middle, c, b)
-            d0, d1 = _hannay_derivatives(y0 + h * c0, y1 + h * c1, u_last, c, b)
+            cos_psi = math.cos(y1)
+            sin_psi = math.sin(y1)
+            a0, a1 = _hannay_derivatives(y0, cos_psi, sin_psi, u_first, c, b)
+            cos_b, sin_b = _turned(cos_psi, sin_psi, half * a1)
+            b0, b1 = _hannay_derivatives(y0 + half * a0, cos_b, sin_b, u_middle, c, b)
+            cos_c, sin_c = _turned(cos_psi, sin_psi, half * b1)
+            c0, c1 = _hannay_derivatives(y0 + half * b0, cos_c, sin_c, u_middle, c, b)
+            cos_d, sin_d = _turned(cos_psi, sin_psi, h * c1)
+            d0, d1 = _hannay_derivatives(y0 + h * c0, cos_d, sin_d, u_last, c, b)
             x[b] = y0 + sixth * (a0 + 2.0 * (b0 + c0) + d0)
             xc[b] = y1 + sixth * (a1 + 2.0 * (b1 + c1) + d1)
             drive[8, b] = drive[0, b] * n + drive[1, b]

@@ -463,6 +463,7 @@ class TripPlanner:
         self._state_numbers: dict = {}
         self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
         self._lattice_of: dict = {}     # (anchor, offset) -> window start (_lattice_after)
+        self._fitted: dict = {}         # what fit_window gave (_fit)
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
@@ -517,8 +518,8 @@ class TripPlanner:
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = self._lattice_after(anchor, choice.bright_offset_h)
             e = s + timedelta(hours=choice.bright_hours)
-            taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
-            window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
+            window = self._fit(max(s, lo), min(e, hi), choice.bright_source, forbidden,
+                               [(w.start, w.end) for w in bright])
             if window is not None:
                 key = (self._day_index(window.start), window.source)
                 room = caps[window.source] - used.get(key, 0.0)
@@ -533,11 +534,24 @@ class TripPlanner:
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = self._lattice_after(anchor, choice.avoid_offset_h)
             e = s + timedelta(hours=choice.avoid_hours)
-            taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
-            window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", taken)
+            window = self._fit(max(s, lo), min(e, hi), "dark glasses", forbidden,
+                               [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid])
             if window is not None:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
+
+    def _fit(self, start: datetime, end: datetime, source: str, forbidden: list, placed: list) -> Window | None:
+        """:func:`fit_window` for ``forbidden`` and the windows already ``placed``, remembered: only the
+        placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
+        differ elsewhere share the answer."""
+        near = tuple(span for span in placed if span[1] > start and span[0] < end)
+        key = (start, end, source, id(forbidden), near)     # forbidden lists live in _forbidden_of
+        if key in self._fitted:
+            return self._fitted[key]
+        if len(self._fitted) > PLACED_CACHE_SIZE:
+            self._fitted.clear()
+        window = self._fitted[key] = fit_window(self.trip, start, end, source, forbidden + list(near))
+        return window
 
     def _lattice_after(self, anchor: datetime, offset_h: float) -> datetime:
         """``_lattice(anchor + offset_h)``, remembered (the searches ask for the same few offsets of each anchor)."""
