@@ -441,6 +441,10 @@ class DayChoice:
     sleep_shift_h: float = 0.0
 
 
+#: What TripPlanner._fit has not been asked yet (fit_window itself may answer None).
+_UNFITTED = object()
+
+
 def _lattice(moment: datetime) -> datetime:
     step = WINDOW_LATTICE_H * 3600.0
     seconds = round(moment.timestamp() / step) * step
@@ -544,10 +548,11 @@ class TripPlanner:
         """:func:`fit_window` for ``forbidden`` and the windows already ``placed``, remembered: only the
         placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
         differ elsewhere share the answer."""
-        near = tuple(span for span in placed if span[1] > start and span[0] < end)
+        near = tuple([span for span in placed if span[1] > start and span[0] < end])
         key = (start, end, source, id(forbidden), near)     # forbidden lists live in _forbidden_of
-        if key in self._fitted:
-            return self._fitted[key]
+        window = self._fitted.get(key, _UNFITTED)
+        if window is not _UNFITTED:
+            return window
         if len(self._fitted) > PLACED_CACHE_SIZE:
             self._fitted.clear()
         window = self._fitted[key] = fit_window(self.trip, start, end, source, forbidden + list(near))
