@@ -22,6 +22,7 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
+from kernels import machine_load
 from planner import LightSchedule, ambient, cbtmin_times, light_box, load_model, sample_on_grid, sleep
 from planner.engine import kernel_numba
 from planner.engine.entrainment import entrain
@@ -138,7 +139,7 @@ def main() -> int:
     print(f"compiled kernel: numba {kernel_numba.numba.__version__}, {threads} threads "
           f"(threading layer {kernel_numba.numba.threading_layer()}); first call "
           f"{report.seconds:.2f} s ({'loaded from the cache' if report.from_cache else 'compiled'}), "
-          "not in the rates below")
+          f"not in the rates below; {machine_load()}")
     built = time.perf_counter()
     schedules, start, end = demo_schedules(args.n, args.days)
     print(f"building {args.n} LightSchedule objects: {time.perf_counter() - built:.2f} s (not in the rates below)")

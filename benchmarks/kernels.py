@@ -33,10 +33,17 @@ def timed(name: str, run: Callable[[], object]) -> tuple[float, object]:
         return time.perf_counter() - began, result
 
 
+def machine_load() -> str:
+    """The load average over the last minute beside the core count: times below are only comparable
+    at a similar load (other processes share the cores)."""
+    return f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores"
+
+
 def announce() -> str:
-    """One line on the compiled kernel: threads and the first call's cost (compile or cache load)."""
+    """One line on the compiled kernel: threads and the first call's cost (compile or cache load), and the load."""
     if not kernel_numba.AVAILABLE:
-        return "compiled kernel unavailable (numba not installed): only the numpy path is timed"
+        return f"compiled kernel unavailable (numba not installed): only the numpy path is timed; {machine_load()}"
     report = kernel_numba.warm_up()
     return (f"compiled kernel: {report.threads} threads; first call {report.seconds:.2f} s "
-            f"({'loaded from the cache' if report.from_cache else 'compiled'}), not in the times below")
+            f"({'loaded from the cache' if report.from_cache else 'compiled'}), not in the times below; "
+            f"{machine_load()}")

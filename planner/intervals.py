@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+import bisect
 from datetime import datetime
-from typing import Iterable
+from typing import Iterable, Sequence
 
 
 def free_segments(start: datetime, end: datetime,
@@ -22,6 +23,20 @@ def free_segments(start: datetime, end: datetime,
                 remaining.append((b, e))
         segments = remaining
     return sorted((s, e) for s, e in segments if e > s)
+
+
+def parts_inside(spans: Sequence[tuple[datetime, datetime]], ends: Sequence[datetime], start: datetime,
+                 end: datetime) -> list[tuple[datetime, datetime]]:
+    """The parts of [start, end] inside ``spans`` (in time order, not overlapping; ``ends`` their ends),
+    in time order; only the spans that can overlap are looked at."""
+    parts = []
+    for a, b in spans[bisect.bisect_right(ends, start):]:   # the first span ending after ``start`` on
+        if a >= end:
+            break
+        lo, hi = max(a, start), min(b, end)
+        if hi > lo:
+            parts.append((lo, hi))
+    return parts
 
 
 def count_text(count: int, noun: str) -> str:

@@ -3,14 +3,16 @@
 The numpy path in :mod:`planner.engine.integrate` advances all N schedules together one step at a
 time; this kernel turns the loops round: every schedule (column) is integrated over the whole
 grid on its own, and the columns are shared out over the machine's cores with
-``numba.prange``.  The arithmetic is the same, term for term and in the same order:
+``numba.prange``.  The arithmetic is the same, term for term and in the same order (but for
+hannay2019's cos ψ and sin ψ, computed once per step and turned through the Runge-Kutta stages):
 
 - Process L is advanced exactly through each piece of constant light (the closed-form maps of
   :func:`planner.engine.process_l.step_maps`, with the mean drive over the Runge-Kutta sub-windows
   [0, h/6], [h/6, 5h/6], [5h/6, h]);
 - the oscillator is advanced with classical fourth-order Runge-Kutta, each stage fed the exact
   mean drive of its sub-window;
-- full steps of one lux level share their maps, computed once per column and level.
+- full steps of one lux level share their maps, computed once per level and distinct set of
+  Process L parameters (one set for a single person, one per person for a population).
 
 So the two paths agree to rounding (tests/test_kernel.py checks 1e-9 on the state).
 
@@ -29,6 +31,7 @@ from __future__ import annotations
 
 import math
 import time
+from contextlib import contextmanager
 from dataclasses import dataclass
 from types import SimpleNamespace
 
@@ -91,6 +94,32 @@ class CompileReport:
 def thread_count() -> int:
     """Threads the compiled kernel uses (numba's current setting); 1 without numba."""
     return int(numba.get_num_threads()) if AVAILABLE else 1
+
+
+#: Work below which a second thread costs more than it saves (measured here on 2 cores shared with
+#: other processes: a trip search batch of 60 schedules ran 1.5-2x slower on 2 threads than on 1):
+#: columns of the integrator, lux levels × columns of the level tables, and steps re-integrated finely.
+COLUMNS_PER_THREAD = 256
+LEVELS_PER_THREAD = 4096
+STEPS_PER_THREAD = 2048
+
+
+@contextmanager
+def threads_for(parts: int):
+    """Run the block's kernel calls on at most ``parts`` threads (at least 1, at most the current setting)."""
+    if not AVAILABLE:
+        yield
+        return
+    before = numba.get_num_threads()
+    wanted = max(1, min(int(parts), before))
+    if wanted == before:
+        yield
+        return
+    numba.set_num_threads(wanted)
+    try:
+        yield
+    finally:
+        numba.set_num_threads(before)
 
 
 def set_thread_count(count: int) -> None:
@@ -190,14 +219,29 @@ if AVAILABLE:
         return d0, d1
 
     @njit(cache=True)
-    def _hannay_derivatives(r, psi, u, c, b):
+    def _turned(cos_a, sin_a, d):
+        """cos and sin of a + d from those of a, for the small turn d [rad] of one Runge-Kutta stage.
+
+        Below 0.5 rad the Taylor series of cos d and sin d to d¹⁴ and d¹³ (remainder under 1e-17)
+        replace two calls of the transcendental functions; a larger turn calls them."""
+        if abs(d) < 0.5:
+            q = d * d
+            sin_d = d * (1.0 - q / 6.0 * (1.0 - q / 20.0 * (1.0 - q / 42.0 * (1.0 - q / 72.0 * (
+                1.0 - q / 110.0 * (1.0 - q / 156.0))))))
+            cos_d = 1.0 - q / 2.0 * (1.0 - q / 12.0 * (1.0 - q / 30.0 * (1.0 - q / 56.0 * (
+                1.0 - q / 90.0 * (1.0 - q / 132.0 * (1.0 - q / 182.0))))))
+        else:
+            sin_d = math.sin(d)
+            cos_d = math.cos(d)
+        return cos_a * cos_d - sin_a * sin_d, sin_a * cos_d + cos_a * sin_d
+
+    @njit(cache=True)
+    def _hannay_derivatives(r, cos_psi, sin_psi, u, c, b):
         """Hannay, Booth & Forger (2019): dR/dt = −γ·R + (K/2)·cos(β1)·R·(1 − R⁴) + L_R,
-        dψ/dt = ω0 + (K/2)·sin(β1)·(1 + R⁴) + L_ψ."""
+        dψ/dt = ω0 + (K/2)·sin(β1)·(1 + R⁴) + L_ψ; ψ given by its cosine and sine."""
         r4 = r * r * r * r
         r8 = r4 * r4
         # cos/sin of ψ + βL1 and 2ψ + βL2 by the angle-addition formulas, as in planner.engine.oscillators.
-        cos_psi = math.cos(psi)
-        sin_psi = math.sin(psi)
         cos_2psi = cos_psi * cos_psi - sin_psi * sin_psi
         sin_2psi = 2.0 * sin_psi * cos_psi
         cos_first = cos_psi * c[6, b] - sin_psi * c[7, b]
@@ -266,7 +310,10 @@ if AVAILABLE:
 
         ``drive`` rows 2–4 are the stages' mean-drive gains and rows 5–7 their offsets, affine in
         n (row 8), which rows 0–1 advance.  One loop per family on purpose: with the family
-        tested inside the loop the compiler no longer vectorises it (measured 2.7× slower)."""
+        tested inside the loop the compiler no longer vectorises it (measured 2.7× slower).
+        cos ψ and sin ψ are computed once per step; each later stage turns them by its small
+        increment of ψ (:func:`_turned`), where the numpy kernel calls cos and sin at every stage:
+        the two agree to rounding (tests/test_kernel.py)."""
         half = 0.5 * h
         sixth = h / 6.0
         for b in range(width):
@@ -276,17 +323,33 @@ if AVAILABLE:
             u_last = drive[4, b] * n + drive[7, b]
             y0 = x[b]
             y1 = xc[b]
-            a0, a1 = _hannay_derivatives(y0, y1, u_first, c, b)
-            b0, b1 = _hannay_derivatives(y0 + half * a0, y1 + half * a1, u_middle, c, b)
-            c0, c1 = _hannay_derivatives(y0 + half * b0, y1 + half * b1, u_middle, c, b)
-            d0, d1 = _hannay_derivatives(y0 + h * c0, y1 + h * c1, u_last, c, b)
+            cos_psi = math.cos(y1)
+            sin_psi = math.sin(y1)
+            a0, a1 = _hannay_derivatives(y0, cos_psi, sin_psi, u_first, c, b)
+            cos_b, sin_b = _turned(cos_psi, sin_psi, half * a1)
+            b0, b1 = _hannay_derivatives(y0 + half * a0, cos_b, sin_b, u_middle, c, b)
+            cos_c, sin_c = _turned(cos_psi, sin_psi, half * b1)
+            c0, c1 = _hannay_derivatives(y0 + half * b0, cos_c, sin_c, u_middle, c, b)
+            cos_d, sin_d = _turned(cos_psi, sin_psi, h * c1)
+            d0, d1 = _hannay_derivatives(y0 + h * c0, cos_d, sin_d, u_last, c, b)
             x[b] = y0 + sixth * (a0 + 2.0 * (b0 + c0) + d0)
             xc[b] = y1 + sixth * (a1 + 2.0 * (b1 + c1) + d1)
             drive[8, b] = drive[0, b] * n + drive[1, b]
 
     @njit(cache=True, parallel=True)
+    def _level_tables(form, process_l, nominal, levels, level_maps, level_alpha):
+        """Maps of a full step at each lux level, and α at each level, for every column of ``process_l``
+        (one column when the batch shares its Process L parameters)."""
+        for j in prange(level_maps.shape[0]):
+            pl = np.ascontiguousarray(process_l[:, j])
+            for u in range(levels.size):
+                _single_piece(nominal, levels[u], form, pl, level_maps[j, u])
+                level_alpha[j, u] = _activation(levels[u], form, pl[0], pl[2], pl[3])
+
+    @njit(cache=True, parallel=True)
     def _integrate_columns(family, form, coefficients, process_l, lengths, nominal, levels, level_index,
-                           split_first, split_step, split_lengths, split_lux, state0, states, drives, failed):
+                           split_first, split_step, split_lengths, split_lux, state0, states, drives, failed,
+                           level_maps, level_alpha, table_of_column):
         """Integrate every column over the grid; see :func:`integrate_batch` for the arguments.
 
         Columns go in blocks of ``_BLOCK``.  A thread advances its block one step at a time: it
@@ -296,15 +359,13 @@ if AVAILABLE:
         """
         steps = lengths.size
         size = state0.shape[1]
-        level_count = levels.size
         blocks = (size + _BLOCK - 1) // _BLOCK
         for block in prange(blocks):
             first = block * _BLOCK
             width = min(_BLOCK, size - first)
             c = np.empty((coefficients.shape[0], width))
             pl = np.empty((width, 5))
-            per_level = np.empty((width, level_count, 8))
-            alpha_level = np.empty((width, level_count))
+            table = np.empty(width, dtype=np.int64)    # the row of level_maps / level_alpha of each column
             x = np.empty(width)
             xc = np.empty(width)
             # Rows 0-7: the step's maps (n_gain, n_offset, drive gains, drive offsets); row 8: n.
@@ -315,9 +376,7 @@ if AVAILABLE:
                 j = first + b
                 c[:, b] = coefficients[:, j]
                 pl[b] = process_l[:, j]
-                for u in range(level_count):
-                    _single_piece(nominal, levels[u], form, pl[b], per_level[b, u])
-                    alpha_level[b, u] = _activation(levels[u], form, pl[b, 0], pl[b, 2], pl[b, 3])
+                table[b] = table_of_column[j]
                 x[b] = state0[0, j]
                 xc[b] = state0[1, j]
                 drive[8, b] = state0[2, j]
@@ -332,7 +391,7 @@ if AVAILABLE:
                 for b in range(width):
                     j = first + b
                     level = level_index[k, j]
-                    drives[k, j] = pl[b, 4] * alpha_level[b, level] * (1.0 - drive[8, b])
+                    drives[k, j] = pl[b, 4] * level_alpha[table[b], level] * (1.0 - drive[8, b])
                     if split[b] < split_first[j + 1] and split_step[split[b]] == k:
                         _pieces(split_lengths[split[b]], split_lux[split[b]], form, pl[b], maps)
                         split[b] += 1
@@ -344,7 +403,7 @@ if AVAILABLE:
                             drive[f, b] = maps[f]
                     else:
                         for f in range(8):
-                            drive[f, b] = per_level[b, level, f]
+                            drive[f, b] = level_maps[table[b], level, f]
                 if family == 0:
                     _forger_steps(x, xc, drive, c, h, width)
                 elif family == 1:
@@ -368,7 +427,7 @@ if AVAILABLE:
                 if steps == 0:
                     drives[0, j] = 0.0
                 else:
-                    drives[steps, j] = pl[b, 4] * alpha_level[b, level_index[steps - 1, j]] * (1.0 - drive[8, b])
+                    drives[steps, j] = pl[b, 4] * level_alpha[table[b], level_index[steps - 1, j]] * (1.0 - drive[8, b])
 
 
     @njit(cache=True, parallel=True)
@@ -465,8 +524,22 @@ def _packed(namespace_or_values, names, size: int) -> np.ndarray:
     return rows
 
 
+#: The last batch's arrays with its model and light: the markers re-integrate steps of the batch just
+#: integrated (:func:`fine_steps`), which then need not pack it again.
+_LAST_BATCH: list = [None, None, None]
+
+
 def _batch_arrays(model, light) -> tuple[np.ndarray, ...]:
     """The kernel's view of a batch: packed coefficients, lux levels and split steps grouped by column."""
+    last_model, last_light, arrays = _LAST_BATCH
+    if last_model is model and last_light is light:
+        return arrays
+    arrays = _pack_batch(model, light)
+    _LAST_BATCH[:] = [model, light, arrays]
+    return arrays
+
+
+def _pack_batch(model, light) -> tuple[np.ndarray, ...]:
     size = light.size
     coefficients = _packed(lambda name: getattr(model.coefficients, name), COEFFICIENT_ORDER[model.family.key], size)
     process_l = _packed(lambda name: getattr(model.process_l, name), PROCESS_L_ORDER, size)
@@ -495,10 +568,11 @@ def fine_steps(result, rows: np.ndarray, columns: np.ndarray, substeps: int) -> 
     columns = np.ascontiguousarray(columns, dtype=np.int64)
     out_times = np.empty((substeps + 1, rows.size))
     out_path = np.empty((substeps + 1, 2, rows.size))
-    _fine_columns(FAMILY_CODES[model.family.key], FORM_CODES[model.process_l.form], coefficients, process_l,
-                  np.ascontiguousarray(result.times, dtype=float), rows, columns,
-                  np.ascontiguousarray(result.states), levels, level_index, split_first, split_step, split_lengths,
-                  split_lux, int(substeps), out_times, out_path)
+    with threads_for(rows.size // STEPS_PER_THREAD):
+        _fine_columns(FAMILY_CODES[model.family.key], FORM_CODES[model.process_l.form], coefficients, process_l,
+                      np.ascontiguousarray(result.times, dtype=float), rows, columns,
+                      np.ascontiguousarray(result.states), levels, level_index, split_first, split_step,
+                      split_lengths, split_lux, int(substeps), out_times, out_path)
     return out_times, out_path
 
 
@@ -526,9 +600,20 @@ def integrate_batch(model, light, state0: np.ndarray) -> tuple[np.ndarray, np.nd
     drives = np.empty((steps + 1, size))
     failed = np.empty(size, dtype=np.int64)
     coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux = batch
-    _integrate_columns(FAMILY_CODES[family.key], FORM_CODES[pl.form], coefficients, process_l, lengths, nominal,
-                       levels, level_index, split_first, split_step, split_lengths, split_lux,
-                       np.ascontiguousarray(state0, dtype=float), states, drives, failed)
+    form = FORM_CODES[pl.form]
+    # The maps of a full step at each lux level depend only on Process L: computed once for each
+    # distinct set of its parameters (one for a single person; one per person for C candidates × N people)
+    distinct, table_of_column = np.unique(process_l, axis=1, return_inverse=True)
+    distinct = np.ascontiguousarray(distinct)
+    level_maps = np.empty((distinct.shape[1], levels.size, 8))
+    level_alpha = np.empty((distinct.shape[1], levels.size))
+    with threads_for(distinct.shape[1] * levels.size // LEVELS_PER_THREAD):
+        _level_tables(form, distinct, nominal, levels, level_maps, level_alpha)
+    with threads_for(size // COLUMNS_PER_THREAD):
+        _integrate_columns(FAMILY_CODES[family.key], form, coefficients, process_l, lengths, nominal,
+                           levels, level_index, split_first, split_step, split_lengths, split_lux,
+                           np.ascontiguousarray(state0, dtype=float), states, drives, failed, level_maps, level_alpha,
+                           np.ascontiguousarray(table_of_column.reshape(-1), dtype=np.int64))
     bad = np.nonzero(failed >= 0)[0]
     if bad.size == 0:
         return states, drives, None

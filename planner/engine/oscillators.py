@@ -168,6 +168,10 @@ class Forger1999(_VanDerPol):
             sxc=values["modulation_xc"],
         )
 
+    def dark_x_rate(self, state, c):
+        """dx/dt with no light reaching the eye (B = 0): :meth:`derivatives` ``[0]`` with a zero drive."""
+        return c.w * (state[1] + 0.0)
+
     def derivatives(self, state, drive, c):
         x, xc = state[0], state[1]
         light = self._light_terms(state, drive, c)
@@ -206,6 +210,13 @@ class Jewett1999(_VanDerPol):
             sx=values["modulation_x"],
             sxc=values["modulation_xc"],
         )
+
+    def dark_x_rate(self, state, c):
+        """dx/dt with no light reaching the eye (B = 0): :meth:`derivatives` ``[0]`` with a zero drive."""
+        x = state[0]
+        x3 = x * x * x
+        x7 = x3 * x3 * x
+        return c.w * (state[1] + c.mu * (x / 3.0 + (4.0 / 3.0) * x3 - (256.0 / 105.0) * x7) + 0.0)
 
     def derivatives(self, state, drive, c):
         x, xc = state[0], state[1]

@@ -42,10 +42,11 @@ from typing import Sequence
 import numpy as np
 
 from planner.engine.entrainment import DailyPattern, EntrainmentResult, entrain
-from planner.engine.integrate import SimulationResult, model_batch_size, simulate
+from planner.engine.integrate import SimulationResult, default_step_h, integrate, model_batch_size
+from planner.engine.process_l import MINUTES_PER_HOUR
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
-from planner.world.light import LightSchedule
+from planner.world.light import LightSchedule, sample_on_grid
 
 #: Intrinsic period of sighted adults, mean and SD [h] (Duffy et al. 2011, PNAS 108:15602) [1]_.
 DUFFY2011_TAU_MEAN_H = 24.15
@@ -218,8 +219,15 @@ def simulate_population(population: Population, schedules: Sequence[LightSchedul
     states = np.asarray(initial_states, dtype=float).reshape(3, -1)
     if states.shape[1] == size and count > 1:
         states = np.tile(states, (1, count))
-    columns = [schedule for schedule in schedules for _ in range(size)]
-    return simulate(tiled(population, count), columns, states, start=start, end=end, step_minutes=step_minutes)
+    model = tiled(population, count)
+    step_h = default_step_h(model) if step_minutes is None else step_minutes / MINUTES_PER_HOUR
+    if not step_h > 0:
+        raise InputError(f"step must be positive, got {step_minutes} min", field="step_minutes")
+    if not schedules:
+        raise InputError("no light schedules to simulate")
+    # each candidate's light is sampled once and shared by its N columns
+    light = sample_on_grid(schedules, start, end, step_h).each_repeated(size)
+    return integrate(model, light, states)
 
 
 @dataclass(frozen=True)

@@ -173,15 +173,31 @@ def circadian_hours(times_h: np.ndarray, cbtmin_h: np.ndarray) -> np.ndarray:
     """
     times_h = np.asarray(times_h, dtype=float)
     out = np.full((times_h.size, cbtmin_h.shape[0]), np.nan)
-    for j, marks in enumerate(cbtmin_h):
-        marks = np.sort(marks[np.isfinite(marks)])
-        if marks.size == 0:
-            continue
-        cycles = np.arange(marks.size) * HOURS_PER_DAY
-        inside = np.interp(times_h, marks, cycles)
-        inside = np.where(times_h < marks[0], times_h - marks[0], inside)
-        inside = np.where(times_h > marks[-1], cycles[-1] + times_h - marks[-1], inside)
-        out[:, j] = np.mod(inside, HOURS_PER_DAY)
+    marks = np.sort(np.where(np.isfinite(cbtmin_h), cbtmin_h, np.nan), axis=1)     # known marks first, in order
+    counts = np.isfinite(marks).sum(axis=1)
+    known = np.nonzero(counts)[0]
+    if known.size == 0 or times_h.size == 0:
+        return out
+    marks, counts = marks[known], counts[known]
+    # Every person at once, the arithmetic of numpy.interp(times_h, marks, 24·(0, 1, ...)) on each row:
+    # the mark at or before each time, the slope to the next, and the ends held.
+    t = times_h[None, :]
+    first = marks[:, :1]
+    last_index = (counts - 1)[:, None]
+    last = np.take_along_axis(marks, last_index, axis=1)
+    below = np.clip((marks[:, :, None] <= t[:, None, :]).sum(axis=1) - 1, 0, np.maximum(last_index - 1, 0))
+    above = np.minimum(below + 1, last_index)
+    x0, x1 = np.take_along_axis(marks, below, axis=1), np.take_along_axis(marks, above, axis=1)
+    y0, y1 = below * HOURS_PER_DAY, above * HOURS_PER_DAY
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope = (y1 - y0) / (x1 - x0)
+        inside = slope * (t - x0) + y0
+        inside = np.where(np.isnan(inside), slope * (t - x1) + y1, inside)
+    inside = np.where(t == x0, y0, inside)
+    inside = np.where(t >= last, last_index * HOURS_PER_DAY, inside)
+    inside = np.where(t < first, t - first, inside)
+    inside = np.where(t > last, last_index * HOURS_PER_DAY + t - last, inside)
+    out[:, known] = np.mod(inside, HOURS_PER_DAY).T
     return out
 
 

@@ -18,12 +18,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from datetime import date, datetime, time, timedelta, timezone
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from typing import Literal
 
 from planner.engine.entrainment import BASELINE_OUTDOOR_H
 from planner.engine.markers import HOURS_PER_DAY
-from planner.intervals import free_segments
+from planner.intervals import free_segments, parts_inside
 from planner.world.daylight import daylight_for
 from planner.world.light import (
     DEFAULT_EXPOSURE,
@@ -100,7 +100,7 @@ class ShiftType:
             total += max(0.0, min(self.start_h + self.hours, b) - max(self.start_h, a))
         return total
 
-    @property
+    @cached_property
     def kind(self) -> ShiftKind:
         """``night`` with at least 3 h in 00:00-05:00; else ``evening`` if it starts after noon, else ``day``."""
         if self.night_hours >= NIGHT_SHIFT_MIN_HOURS:
@@ -373,12 +373,14 @@ def site_sun_up(roster: Roster, draft: Draft) -> tuple[tuple[datetime, datetime]
 
 def sunlit(roster: Roster, draft: Draft, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
     """Parts of [start, end] with the sun up at the site."""
-    spans = []
-    for a, b in site_sun_up(roster, draft):
-        lo, hi = max(a, start), min(b, end)
-        if hi > lo:
-            spans.append((lo, hi))
-    return spans
+    return parts_inside(*_site_sun_spans(roster, draft), start, end)
+
+
+@lru_cache(maxsize=32)
+def _site_sun_spans(roster: Roster, draft: Draft) -> tuple[tuple, list]:
+    """The sun-up spans of :func:`site_sun_up` in time order, and their ends."""
+    ups = tuple(sorted(site_sun_up(roster, draft)))
+    return ups, [b for _, b in ups]
 
 
 def _busy(days, plan: RosterPlan) -> list[tuple[datetime, datetime]]:

@@ -549,15 +549,12 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     out_of_phase = np.zeros(size)
     awake_in_night = np.zeros(size)
     adapted = np.zeros((size, len(days)), dtype=bool)
-    shared = len(plans) == 1
     # Each CBTmin inside the draft opens a biological night [c + bed offset, c + wake offset].
     in_draft = (cbt >= bounds[0]) & (cbt < bounds[-1])
     night0, night1 = cbt + ref.bed_from_cbtmin_h, cbt + ref.wake_from_cbtmin_h
     cbt_day = np.clip(np.searchsorted(bounds, np.where(in_draft, cbt, bounds[0]), side="right") - 1, 0,
                       len(days) - 1)
-    for j in range(1 if shared else size):
-        plan = plans[j]
-        rows = slice(None) if shared else slice(j, j + 1)
+    for plan, rows in _same_plan_runs(plans, size):
         s0 = np.array([hours_between(epoch, a) for a, _ in plan.sleep])
         s1 = np.array([hours_between(epoch, b) for _, b in plan.sleep])
         asleep = np.zeros(cbt[rows].shape)
@@ -597,6 +594,19 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     sleepiness = _sleepiness(roster, plans, size, epoch, cbt, w0, w1, bounds[-1], ref)
     return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted,
                    to_adapt, runs, amplitude, sleepiness)
+
+
+def _same_plan_runs(plans: Sequence[RosterPlan], size: int) -> list[tuple[RosterPlan, slice]]:
+    """Each plan with the batch columns following it: runs of consecutive columns with the same plan object
+    (one plan for the whole batch, or C candidates × N people), which ``measure`` handles together."""
+    if len(plans) == 1:
+        return [(plans[0], slice(None))]
+    runs, first = [], 0
+    for j in range(1, size + 1):
+        if j == size or plans[j] is not plans[first]:
+            runs.append((plans[first], slice(first, j)))
+            first = j
+    return runs
 
 
 def _sleepiness(roster: Roster, plans: Sequence[RosterPlan], size: int, epoch: datetime, cbt: np.ndarray,

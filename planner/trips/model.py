@@ -25,7 +25,7 @@ from planner.engine.entrainment import BASELINE_OUTDOOR_H, entrain, place_patter
 from planner.engine.markers import HOURS_PER_DAY
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
-from planner.intervals import free_segments
+from planner.intervals import free_segments, parts_inside
 from planner.world.daylight import daylight_for
 from planner.world.light import (
     LightLayer,
@@ -409,12 +409,14 @@ def _fit_sleep_around_flights(trip: Trip, episodes):
 
 def daylight_within(trip: Trip, place: Place, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
     """Parts of [start, end] with the sun up at ``place``."""
-    spans = []
-    for a, b in sun_up(place, trip.start - timedelta(days=1), trip.end + timedelta(days=1)):
-        lo, hi = max(a, start), min(b, end)
-        if hi > lo:
-            spans.append((lo, hi))
-    return spans
+    return parts_inside(*_sun_spans(trip, place), start, end)
+
+
+@lru_cache(maxsize=256)
+def _sun_spans(trip: Trip, place: Place) -> tuple[tuple, list]:
+    """The sun-up spans at ``place`` around the trip, in time order, and their ends."""
+    ups = tuple(sorted(sun_up(place, trip.start - timedelta(days=1), trip.end + timedelta(days=1))))
+    return ups, [b for _, b in ups]
 
 
 @lru_cache(maxsize=64)
@@ -434,22 +436,30 @@ def baseline_daylight(trip: Trip) -> tuple[LightLayer, ...]:
 
 def plan_schedule(trip: Trip, plan: Plan) -> LightSchedule:
     """The light at the eye for a plan (layer order in the module docstring)."""
-    layers: list[LightLayer] = list(baseline_daylight(trip))
-    for window in plan.bright:
-        if window.source == "light box":
-            layers.append(light_box(window.start, window.end, window.lux))
-        elif window.source == "daylight" and where_at(trip, window.start) is not None:
-            layers.extend(daylight_for(trip.light, where_at(trip, window.start), window.start, window.end))
-        else:
-            layers.append(ambient(window.start, window.end, window.lux, window.source))
-    layers.extend(_cabin_layers(trip))
-    for window in plan.avoid:
-        if window.source == EYE_MASK:
-            layers.append(LightLayer(window.start, window.end, "scale", window.lux, EYE_MASK))
-        else:
-            layers.append(dark_glasses(window.start, window.end, trip.light.glasses_transmission))
-    layers.extend(_sleep_layers(tuple(plan.sleep)))
-    return LightSchedule.from_layers(trip.start, trip.end, trip.light.indoor_lux, layers)
+    glasses = [_avoid_layers(window, trip.light.glasses_transmission) for window in plan.avoid]
+    # every group of layers is a tuple kept by a cache, converted once (LightSchedule.from_layer_groups)
+    groups = [baseline_daylight(trip), *(_bright_layers(trip, window) for window in plan.bright), _cabin_layers(trip),
+              *glasses, _sleep_layers(tuple(plan.sleep))]
+    return LightSchedule.from_layer_groups(trip.start, trip.end, trip.light.indoor_lux, groups)
+
+
+@lru_cache(maxsize=8192)
+def _bright_layers(trip: Trip, window: Window) -> tuple[LightLayer, ...]:
+    """The layers of a bright-light window (searches place the same windows in many plans)."""
+    if window.source == "light box":
+        return (light_box(window.start, window.end, window.lux),)
+    if window.source == "daylight" and where_at(trip, window.start) is not None:
+        return tuple(daylight_for(trip.light, where_at(trip, window.start), window.start, window.end))
+    return (ambient(window.start, window.end, window.lux, window.source),)
+
+
+@lru_cache(maxsize=8192)
+def _avoid_layers(window: Window, glasses_transmission: float) -> tuple[LightLayer, ...]:
+    """The layer of a light-avoidance window: an eye mask scales by its own transmission, dark
+    glasses by the traveller's glasses' transmission."""
+    if window.source == EYE_MASK:
+        return (LightLayer(window.start, window.end, "scale", window.lux, EYE_MASK),)
+    return (dark_glasses(window.start, window.end, glasses_transmission),)
 
 
 @lru_cache(maxsize=64)

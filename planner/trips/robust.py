@@ -33,7 +33,6 @@ from planner.engine.markers import (
     HOURS_PER_DAY,
     cbtmin_times,
     phase_difference,
-    reentrainment,
 )
 from planner.engine.parameters import ModelSpec, load_model
 from planner.engine.population import (
@@ -56,6 +55,7 @@ from planner.trips.evidence import (
     starting_phase,
 )
 from planner.trips.model import Plan, Trip, plan_schedule
+from planner.trips.scoring import net_shifts_h, people_reentrainment
 from planner.trips.search import (
     REENTRAINMENT_TOLERANCE_H,
     Aim,
@@ -64,7 +64,6 @@ from planner.trips.search import (
     TripPlanner,
     TripPlanResult,
     keep_to_lobes,
-    person_score,
     plan_burden_days,
     target_place,
 )
@@ -196,13 +195,16 @@ class TripPopulation:
         ends = np.array([hours_between(epoch, d.end) for d in days])
         clocks = np.full((len(days), columns), np.nan)
         times = np.full((len(days), columns), np.nan)
-        for j, m in enumerate(markers):
-            if m.size == 0:
-                continue
-            index = np.searchsorted(m, ends, side="left") - 1
-            value = m[np.clip(index, 0, None)]
-            found = (index >= 0) & (value >= starts)
-            times[found, j] = value[found]
+        # each day's last marker before its end, for every column at once (markers padded with +inf)
+        width = max((m.size for m in markers), default=0)
+        if width:
+            padded = np.full((columns, width), np.inf)
+            for j, m in enumerate(markers):
+                padded[j, :m.size] = m
+            index = (padded[:, :, None] < ends[None, None, :]).sum(axis=1) - 1          # (C, D)
+            value = np.take_along_axis(padded, np.clip(index, 0, None), axis=1)
+            found = (index >= 0) & (value >= starts[None, :])
+            times.T[found] = value[found]
         epoch_hour = epoch.hour + epoch.minute / 60 + epoch.second / 3600
         errors = np.full_like(clocks, np.nan)
         person = np.arange(columns) % self.size
@@ -248,20 +250,15 @@ class TripPopulation:
             days = np.full(size, np.inf)
             scores = np.empty(size)
             wrong = np.zeros(size, bool)
-            net = _net_shift_h(times[:back, cols])
+            net = net_shifts_h(times[:back, cols])
             if aim == "home":
                 held = np.nanmax(np.abs(stay), axis=0, initial=0.0) <= REENTRAINMENT_TOLERANCE_H
                 held &= np.all(np.isfinite(stay), axis=0)
                 days[held] = 0.0
                 scores[:] = np.where(held, 0.0, stay_days + 5.0)
             else:
-                for j in range(size):
-                    settled = reentrainment(stay[:, j], 0.0, REENTRAINMENT_TOLERANCE_H)
-                    if settled.day is not None:
-                        days[j] = settled.day
-                    scores[j] = person_score(settled.day, stay[:, j])
-                moved = np.where(np.abs(net) < 1.0, "none", np.where(net > 0, "delay", "advance"))
-                wrong = (moved != intended[c]) & (moved != "none") & (intended[c] != "none")
+                days, scores = people_reentrainment(stay)
+                wrong = _wrong_direction(net, intended[c])
             summary = population_success(days, wrong, by_day, person_scores=scores + plan_burden_days(ev.trip, plan))
             curve = np.array([(days <= d).mean() for d in range(stay_days)])
             fan = _fan(clocks[:, cols])
@@ -271,6 +268,31 @@ class TripPopulation:
                                  float(summary.wrong_direction[0]), [d.local_date for d in ev.days], fan,
                                  float(summary.score[0]), days))
         return out
+
+
+    def scores(self, plans: Sequence[Plan], intended: Sequence[str], *, by_day: int | None = None) -> np.ndarray:
+        """The robust score of each plan (aim "route"): :attr:`PlanStats.score` of :meth:`stats`, the same
+        numbers, without the rest of the statistics (the robust search needs only the score)."""
+        ev = self.evaluator
+        markers = self.simulate(plans)
+        times, _, errors = self._clocks(markers, "route")
+        arrival, back = ev.arrival_index(), ev.return_index()
+        stay_days = max(back - arrival, 1)
+        by_day = stay_days - 1 if by_day is None else int(by_day)
+        size = self.size
+        days, scores, wrong = (np.empty((len(plans), size)) for _ in range(3))
+        for c, plan in enumerate(plans):
+            cols = slice(c * size, (c + 1) * size)
+            days[c], scores[c] = people_reentrainment(errors[arrival:back, cols])
+            scores[c] += plan_burden_days(ev.trip, plan)
+            wrong[c] = _wrong_direction(net_shifts_h(times[:back, cols]), intended[c])
+        return population_success(days, wrong.astype(bool), by_day, person_scores=scores).score
+
+
+def _wrong_direction(net_h: np.ndarray, intended: str) -> np.ndarray:
+    """Whether each clock moved (net ``net_h`` [h], under 1 h counts as not moving) the other way than intended."""
+    moved = np.where(np.abs(net_h) < 1.0, "none", np.where(net_h > 0, "delay", "advance"))
+    return (moved != intended) & (moved != "none") & (intended != "none")
 
 
 def place_targets(evaluator: Evaluator, population: Population, steady: dict | None = None) -> dict[str, np.ndarray]:
@@ -290,17 +312,6 @@ def place_targets(evaluator: Evaluator, population: Population, steady: dict | N
             steady[pattern] = entrain_people(population.model, pattern)
         targets[name] = np.broadcast_to(steady[pattern].cbtmin_clock_h, (population.size,)).copy()
     return targets
-
-
-def _net_shift_h(times: np.ndarray) -> np.ndarray:
-    """Net movement of each column's daily CBTmin [h] (as :func:`planner.trips.search._net_shift_h`:
-    the sum of daily moves, each the shortest way round the clock), shape (C,)."""
-    out = np.zeros(times.shape[1])
-    for j in range(times.shape[1]):
-        known = times[np.isfinite(times[:, j]), j]
-        if known.size > 1:
-            out[j] = float(np.sum(phase_difference(np.mod(np.diff(known), HOURS_PER_DAY), 0.0)))
-    return out
 
 
 def _fan(clocks: np.ndarray) -> dict:
@@ -400,10 +411,10 @@ def robust_plan(trip: Trip, model: ModelSpec, average: TripPlanResult, *, eviden
 
         def score(plans, strategy=strategy):
             nonlocal done
-            values = [s.score for s in crowd.stats(plans, [strategy] * len(plans), by_day=by_day)]
+            values = crowd.scores(plans, [strategy] * len(plans), by_day=by_day)
             done += 1
             progress("robust search", min(done, generations), generations)
-            return np.array(values)
+            return values
 
         choices, _ = planner.refine(strategy, list(seed_result.choices), anchors, seed=seed, maxiter=maxiter,
                                     score_plans=score, extra_seeds=_variants(seed_result.choices, strategy))

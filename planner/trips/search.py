@@ -40,7 +40,6 @@ from planner.engine.markers import (
     HOURS_PER_DAY,
     cbtmin_times,
     phase_difference,
-    reentrainment,
 )
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError
@@ -72,6 +71,7 @@ from planner.trips.model import (
     trip_days,
     where_at,
 )
+from planner.trips.scoring import REENTRAINMENT_TOLERANCE_H, net_shifts_h, people_reentrainment
 from planner.trips.travel_sleep import eye_mask_clear_of, travel_sleep_options
 from planner.world.daylight import mean_daylight_for
 from planner.world.light import Window, hours_between
@@ -81,8 +81,6 @@ from planner.intervals import count_text
 #: What a plan aims at: the clock of each day's place on the route, or home time throughout.
 Aim = Literal["route", "home"]
 
-#: Tolerance for "re-entrained": CBTmin within 1 h of the target (the issue's definition; common practice).
-REENTRAINMENT_TOLERANCE_H = 1.0
 #: Burden penalty per minute of light box and per hour of sleep displacement, in days of
 #: re-entrainment: small so it only breaks near-ties (a design choice of this planner).
 BOX_MINUTE_PENALTY_DAYS = 0.002
@@ -236,7 +234,7 @@ class Evaluator:
         markers = cbtmin_times(result)
         amplitude = self.model.family.amplitude(np.moveaxis(result.states[:, :2, :], 1, 0))
         ratio = np.nanmin(amplitude, axis=0) / self.reference_amplitude
-        return [self._outcome(plan, markers[j], float(ratio[j]), aim) for j, plan in enumerate(plans)]
+        return self._outcomes(plans, markers, ratio, aim)
 
     def _day_table(self, aim: Aim) -> tuple[list[Place], np.ndarray, np.ndarray, list[float]]:
         """Per day: the place aimed at, its bounds [h since trip start] and the target clock [h]."""
@@ -250,37 +248,51 @@ class Evaluator:
                 [self.target_clock[place.name] for place in places])
         return table
 
-    def _outcome(self, plan: Plan, marker_h: np.ndarray, amplitude_ratio: float, aim: Aim = "route") -> Outcome:
+    def _outcomes(self, plans: Sequence[Plan], markers: list[np.ndarray], amplitude_ratio: np.ndarray,
+                  aim: Aim = "route") -> list[Outcome]:
+        """The outcome of each plan from its CBTmin times [h since the trip's start]; re-entrainment, net
+        shift and score of all plans at once (:mod:`planner.trips.scoring`: the same numbers)."""
         epoch = self.trip.start
         places, day_start, day_end, target = self._day_table(aim)
-        # Each day's CBTmin is the last marker inside it (markers are in time order).
-        last = np.searchsorted(marker_h, day_end, side="left") - 1
-        found = (last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0
-        day_outcomes, moments_h = [], []
-        for i, day in enumerate(self.days):
-            if found[i]:
-                hours = float(marker_h[last[i]])
-                moment = epoch + timedelta(hours=hours)
-                local = moment.astimezone(places[i].zone)
-                clock = local.hour + local.minute / 60 + local.second / 3600
-                error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
-                error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
-                moments_h.append((i, hours))
-            else:
-                moment, error = None, math.nan
-            day_outcomes.append(DayOutcome(day, places[i], moment, error))
+        errors = np.full((len(self.days), len(plans)), np.nan)     # CBTmin − target per day and plan [h]
+        cbtmin_h = np.full_like(errors, np.nan)
+        days_of = []
+        for j, marker_h in enumerate(markers):
+            # Each day's CBTmin is the last marker inside it (markers are in time order).
+            last = np.searchsorted(marker_h, day_end, side="left") - 1
+            found = ((last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0).tolist()
+            last = last.tolist()
+            day_outcomes = []
+            for i, day in enumerate(self.days):
+                if found[i]:
+                    hours = float(marker_h[last[i]])
+                    moment = epoch + timedelta(hours=hours)
+                    local = moment.astimezone(places[i].zone)
+                    clock = local.hour + local.minute / 60 + local.second / 3600
+                    error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
+                    error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
+                    errors[i, j], cbtmin_h[i, j] = error, hours
+                else:
+                    moment, error = None, math.nan
+                day_outcomes.append(DayOutcome(day, places[i], moment, error))
+            days_of.append(day_outcomes)
         # Re-entrainment, net shift and direction describe the time away: from the arrival day
         # until the day of the flight back home (the whole rest of a one-way trip).
         arrival, back = self.arrival_index(), self.return_index()
-        stay = np.array([o.error_h for o in day_outcomes[arrival:back]])
-        settled = reentrainment(stay, 0.0, REENTRAINMENT_TOLERANCE_H)
-        net = _net_shift_h([hours for i, hours in moments_h if i < back])
-        direction = "none" if abs(net) < 1.0 else ("delay" if net > 0 else "advance")
-        score = person_score(settled.day, stay) + plan_burden_days(self.trip, plan)
-        finite = np.abs(stay[np.isfinite(stay)])
-        largest = float(finite.max()) if finite.size else math.nan
-        every = tuple(epoch + timedelta(hours=float(h)) for h in marker_h if math.isfinite(h))
-        return Outcome(plan, day_outcomes, settled.day, net, direction, amplitude_ratio, score, aim, largest, every)
+        stay = errors[arrival:back]
+        settled, person = people_reentrainment(stay)
+        net = net_shifts_h(cbtmin_h[:back])
+        largest = np.where(np.isfinite(stay), np.abs(stay), -np.inf).max(axis=0, initial=-np.inf)
+        outcomes = []
+        for j, plan in enumerate(plans):
+            shift = float(net[j])
+            direction = "none" if abs(shift) < 1.0 else ("delay" if shift > 0 else "advance")
+            score = float(person[j] + plan_burden_days(self.trip, plan))
+            every = tuple(epoch + timedelta(hours=float(h)) for h in markers[j] if math.isfinite(h))
+            outcomes.append(Outcome(plan, days_of[j], None if math.isinf(settled[j]) else int(settled[j]), shift,
+                                    direction, float(amplitude_ratio[j]), score, aim,
+                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, every))
+        return outcomes
 
 
 def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
@@ -426,6 +438,10 @@ def _travel_choice(choices: Sequence[DayChoice]) -> TravelSleep | None:
     return next((c.travel_sleep for c in reversed(choices) if c.travel_sleep is not None), None)
 
 
+#: What TripPlanner._fit has not been asked yet (fit_window itself may answer None).
+_UNFITTED = object()
+
+
 def _lattice(moment: datetime) -> datetime:
     step = WINDOW_LATTICE_H * 3600.0
     seconds = round(moment.timestamp() / step) * step
@@ -441,25 +457,37 @@ class TripPlanner:
         self.evaluator = Evaluator(trip, model, search_step_minutes=max(SEARCH_STEP_MINUTES, model.step_minutes),
                                    initial_state=initial_state)
         self.days = self.evaluator.days
-        self._placed: dict = {}   # see build
+        # see build: placements by (state number, choice, anchor, strategy), the states by number
+        # and the numbers by state
+        self._placed: dict = {}
+        self._states: list = []
+        self._state_numbers: dict = {}
+        self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
+        self._lattice_of: dict = {}     # (anchor, offset) -> window start (_lattice_after)
+        self._fitted: dict = {}         # what fit_window gave (_fit)
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
         travel = _travel_choice(choices)
         sleep = tuple(habitual_sleep(self.trip, self._sleep_shifts(choices), travel))
         # The windows of a day depend only on the days before it, so the windows placed up to
-        # each day are remembered (searches vary one day of otherwise equal plans).
-        placed: tuple = (sleep, (), (), ())     # sleep, bright, avoid, used minutes per (day, source)
+        # each day are remembered (searches vary one day of otherwise equal plans).  A state of
+        # placement is known by its number, which keeps the keys cheap to look up.
         if len(self._placed) > PLACED_CACHE_SIZE:
             self._placed.clear()
+            self._states.clear()
+            self._state_numbers.clear()
+        state = self._state_number((sleep, (), (), ()))   # sleep, bright, avoid, used minutes per (day, source)
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
-            key = (placed, choice, anchor, strategy)
+            key = (state, choice, anchor, strategy)
             following = self._placed.get(key)
             if following is None:
-                following = self._placed[key] = self._place_day(placed, choice, anchor, strategy)
-            placed = following
+                following = self._placed[key] = self._state_number(
+                    self._place_day(self._states[state], choice, anchor, strategy))
+            state = following
+        placed = self._states[state]
         masks = eye_mask_clear_of(travel.eye_mask, sleep) if travel is not None else ()
         return Plan(sleep, placed[1], placed[2] + masks)
 
@@ -467,11 +495,21 @@ class TripPlanner:
         """The sleep shift of each preparation day [h]."""
         return tuple(choice.sleep_shift_h for day, choice in zip(self.days, choices) if day.kind == "preparation")
 
+    def _state_number(self, placed: tuple) -> int:
+        """The number of a state of placement (see :meth:`build`), given one if it is new."""
+        number = self._state_numbers.get(placed)
+        if number is None:
+            number = self._state_numbers[placed] = len(self._states)
+            self._states.append(placed)
+        return number
+
     def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime, strategy: Strategy) -> tuple:
         """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
         sleep, bright, avoid, used_items = placed
         bright, avoid, used = list(bright), list(avoid), dict(used_items)
-        forbidden = _forbidden(self.trip, sleep)
+        forbidden = self._forbidden_of.get(sleep)
+        if forbidden is None:
+            forbidden = self._forbidden_of[sleep] = _forbidden(self.trip, sleep)
         caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
         # A day's windows sit on either side of its CBTmin, so they may fall on the evening
         # before the day (delaying light before a CBTmin just after midnight): each is bounded
@@ -479,10 +517,10 @@ class TripPlanner:
         if choice.bright_hours > 0:
             lo, hi = lobe(anchor, "bright", strategy)
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
-            s = _lattice(anchor + timedelta(hours=choice.bright_offset_h))
+            s = self._lattice_after(anchor, choice.bright_offset_h)
             e = s + timedelta(hours=choice.bright_hours)
-            taken = forbidden + [(w.start, w.end) for w in bright]     # free_segments needs no order
-            window = fit_window(self.trip, max(s, lo), min(e, hi), choice.bright_source, taken)
+            window = self._fit(max(s, lo), min(e, hi), choice.bright_source, forbidden,
+                               [(w.start, w.end) for w in bright])
             if window is not None:
                 key = (self._day_index(window.start), window.source)
                 room = caps[window.source] - used.get(key, 0.0)
@@ -495,13 +533,37 @@ class TripPlanner:
         if choice.avoid_hours > 0:
             lo, hi = lobe(anchor, "avoid", strategy)
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
-            s = _lattice(anchor + timedelta(hours=choice.avoid_offset_h))
+            s = self._lattice_after(anchor, choice.avoid_offset_h)
             e = s + timedelta(hours=choice.avoid_hours)
-            taken = forbidden + [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid]
-            window = fit_window(self.trip, max(s, lo), min(e, hi), "dark glasses", taken)
+            window = self._fit(max(s, lo), min(e, hi), "dark glasses", forbidden,
+                               [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid])
             if window is not None:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
+
+    def _fit(self, start: datetime, end: datetime, source: str, forbidden: list, placed: list) -> Window | None:
+        """:func:`fit_window` for ``forbidden`` and the windows already ``placed``, remembered: only the
+        placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
+        differ elsewhere share the answer."""
+        near = tuple([span for span in placed if span[1] > start and span[0] < end])
+        key = (start, end, source, id(forbidden), near)     # forbidden lists live in _forbidden_of
+        window = self._fitted.get(key, _UNFITTED)
+        if window is not _UNFITTED:
+            return window
+        if len(self._fitted) > PLACED_CACHE_SIZE:
+            self._fitted.clear()
+        window = self._fitted[key] = fit_window(self.trip, start, end, source, forbidden + list(near))
+        return window
+
+    def _lattice_after(self, anchor: datetime, offset_h: float) -> datetime:
+        """``_lattice(anchor + offset_h)``, remembered (the searches ask for the same few offsets of each anchor)."""
+        key = (anchor, offset_h)
+        moment = self._lattice_of.get(key)
+        if moment is None:
+            if len(self._lattice_of) > PLACED_CACHE_SIZE:
+                self._lattice_of.clear()
+            moment = self._lattice_of[key] = _lattice(anchor + timedelta(hours=offset_h))
+        return moment
 
     def _day_index(self, moment: datetime) -> int:
         """Index of the trip day holding ``moment`` (the last day for the trip's end)."""

@@ -311,6 +311,13 @@ def mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude
                   sky: Sky = DEFAULT_SKY, exposure: Exposure = DEFAULT_EXPOSURE,
                   cap_lux: float | None = None) -> float:
     """Time-weighted mean daylight at the eye over [start, end] [lux]."""
+    return _mean_daylight(start, end, latitude_deg, longitude_deg, sky, exposure, cap_lux)
+
+
+@lru_cache(maxsize=16384)
+def _mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, sky: Sky,
+                   exposure: Exposure, cap_lux: float | None) -> float:
+    # remembered: the trip search asks for the same windows of many candidate plans
     layers = daylight_layers(start, end, latitude_deg, longitude_deg, sky=sky, exposure=exposure, cap_lux=cap_lux)
     total = sum(hours_between(layer.start, layer.end) for layer in layers)
     if total <= 0:

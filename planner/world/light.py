@@ -105,6 +105,48 @@ def dark_glasses(start: datetime, end: datetime, transmission: float) -> LightLa
     return LightLayer(start, end, "scale", transmission, "dark glasses")
 
 
+def layer_table(layers: Sequence[LightLayer], start: datetime) -> tuple:
+    """Layers as arrays for :meth:`LightSchedule.from_layer_table`: first and last hour of each
+    [h since ``start``], whether it is a ``set`` layer, whether a ``scale`` layer, and its value.
+
+    Tables of consecutive groups of layers join by concatenating each of their parts
+    (:func:`join_tables`): the result is the table of the joined list of layers.
+    """
+    start = _require_aware(start, "start")
+    # Layer times are UTC (LightLayer converts them), so plain subtraction is elapsed time.
+    first = np.array([(layer.start - start).total_seconds() for layer in layers], dtype=float) / SECONDS_PER_HOUR
+    last = np.array([(layer.end - start).total_seconds() for layer in layers], dtype=float) / SECONDS_PER_HOUR
+    is_set = np.array([layer.kind == "set" for layer in layers], dtype=bool)
+    is_scale = np.array([layer.kind == "scale" for layer in layers], dtype=bool)
+    values = np.array([float(layer.value) for layer in layers], dtype=float)
+    return first, last, is_set, is_scale, values
+
+
+#: Layer tables of tuples of layers by (id of the tuple, start); each entry keeps its tuple alive, so
+#: an id is not reused while its entry stands.  Cleared when it grows past ``_TABLES_KEPT`` entries.
+_TABLES: dict = {}
+_TABLES_KEPT = 20_000
+
+
+def _remembered_table(group: tuple, start: datetime) -> tuple:
+    key = (id(group), start)
+    found = _TABLES.get(key)
+    if found is None:
+        if len(_TABLES) >= _TABLES_KEPT:
+            _TABLES.clear()
+        found = _TABLES[key] = (group, layer_table(group, start))
+    return found[1]
+
+
+def join_tables(tables: Sequence[tuple]) -> tuple:
+    """One layer table of several (:func:`layer_table`), in order."""
+    if len(tables) == 1:
+        return tables[0]
+    return (np.concatenate([t[0] for t in tables]), np.concatenate([t[1] for t in tables]),
+            np.concatenate([t[2] for t in tables]), np.concatenate([t[3] for t in tables]),
+            np.concatenate([t[4] for t in tables]))
+
+
 @dataclass(frozen=True)
 class LightSchedule:
     """Piecewise-constant illuminance at the eye.
@@ -166,10 +208,32 @@ class LightSchedule:
         if not math.isfinite(background_lux) or background_lux < 0:
             raise ScheduleError(f"background lux must be a finite number >= 0, got {background_lux}",
                                 field="background_lux")
+        return cls.from_layer_table(start, end, background_lux, *layer_table(layers, start))
+
+    @classmethod
+    def from_layer_groups(cls, start: datetime, end: datetime, background_lux: float,
+                          groups: Sequence[Sequence[LightLayer]]) -> "LightSchedule":
+        """:meth:`from_layers` of the groups' layers joined in order, the same schedule.
+
+        A group that is a tuple is converted once and remembered while it lives (searches build
+        many plans from the same tuples of layers: a day's daylight, a plan's sleep).
+        """
+        start = _require_aware(start, "start")
+        if not math.isfinite(background_lux) or background_lux < 0 or _require_aware(end, "end") <= start:
+            return cls.from_layers(start, end, background_lux, [layer for group in groups for layer in group])
+        tables = [_remembered_table(group, start) if isinstance(group, tuple) else layer_table(group, start)
+                  for group in groups]
+        return cls.from_layer_table(start, end, background_lux, *join_tables(tables))
+
+    @classmethod
+    def from_layer_table(cls, start: datetime, end: datetime, background_lux: float, first: np.ndarray,
+                         last: np.ndarray, is_set: np.ndarray, is_scale: np.ndarray,
+                         values: np.ndarray) -> "LightSchedule":
+        """:meth:`from_layers` with the layers given as a :func:`layer_table` (searches keep the
+        tables of layers many plans share and join them, instead of converting every layer again)."""
+        start = _require_aware(start, "start")
+        end = _require_aware(end, "end")
         span = hours_between(start, end)
-        # Layer times are UTC (LightLayer converts them), so plain subtraction is elapsed time.
-        first = np.array([(layer.start - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
-        last = np.array([(layer.end - start).total_seconds() for layer in layers]) / SECONDS_PER_HOUR
         a = np.clip(first, 0.0, span)
         b = np.clip(last, 0.0, span)
         edges = np.unique(np.concatenate(([0.0, span], a, b)))
@@ -179,20 +243,23 @@ class LightSchedule:
         mids = 0.5 * (lefts + rights)
         # Applying the layers in order: a segment takes the value of the last "set" layer over it
         # (or the background), then every later "at_least" / "scale" layer over it, in order.
-        inside = (mids[None, :] > a[:, None]) & (mids[None, :] < b[:, None])      # (layers, segments)
-        kinds = [layer.kind for layer in layers]
-        is_set = np.array([kind == "set" for kind in kinds], dtype=bool)
-        values = np.array([float(layer.value) for layer in layers])
-        order = np.arange(len(layers))[:, None]
-        last_set = np.max(np.where(inside & is_set[:, None], order, -1), axis=0, initial=-1)
-        lux = np.where(last_set >= 0, values[np.maximum(last_set, 0)] if len(layers) else 0.0,
-                       float(background_lux))
-        for index in np.nonzero(~is_set)[0]:
-            over = inside[index] & (last_set < index)
-            if kinds[index] == "at_least":
-                lux[over] = np.maximum(lux[over], values[index])
+        # Layer i lies over the segments whose middle is inside it: segments lo[i] to hi[i] - 1.
+        lo = np.searchsorted(mids, a, side="right")
+        hi = np.maximum(np.searchsorted(mids, b, side="left"), lo)
+        widths = hi - lo
+        layer_of = np.repeat(np.arange(a.size), widths)          # (layer, segment) pairs, layer by layer
+        segment_of = np.arange(layer_of.size) - np.repeat(np.cumsum(widths) - widths, widths) + lo[layer_of]
+        last_set = np.full(mids.size, -1)
+        setting = is_set[layer_of]
+        np.maximum.at(last_set, segment_of[setting], layer_of[setting])
+        lux = np.where(last_set >= 0, values[np.maximum(last_set, 0)] if a.size else 0.0, float(background_lux))
+        for index in np.nonzero(~is_set & (widths > 0))[0]:
+            part = slice(lo[index], hi[index])
+            over = last_set[part] < index
+            if is_scale[index]:
+                lux[part][over] *= values[index]
             else:
-                lux[over] *= values[index]
+                lux[part][over] = np.maximum(lux[part][over], values[index])
         keep = np.concatenate(([True], lux[1:] != lux[:-1]))
         return cls(start, np.append(edges[:-1][keep], span), lux[keep])
 
@@ -257,6 +324,27 @@ class GridLight:
                          np.tile(self.split_step, count), np.repeat(np.arange(count), e),
                          np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)),
                          self.levels, index)
+
+
+    def each_repeated(self, count: int) -> "GridLight":
+        """Every schedule of the batch repeated ``count`` times in a row: column j of the result is
+        schedule ``j // count`` (e.g. C candidate schedules for N people each).
+
+        The same as sampling the repeated list of schedules, without sampling each copy again.
+        """
+        if count == 1:
+            return self
+        split_order = np.argsort(self.split_column, kind="stable")
+        split_step, split_column = self.split_step[split_order], self.split_column[split_order]
+        copies = np.arange(count)
+        # column-major like sample_on_grid: each new column's splits together, in step order
+        new_column = (split_column[:, None] * count + copies[None, :]).ravel()
+        order = np.lexsort((np.repeat(split_step, count), new_column))
+        index = None if self.level_index is None else np.repeat(self.level_index, count, axis=1)
+        return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
+                         np.repeat(split_step, count)[order], new_column[order],
+                         np.repeat(self.split_lengths[split_order], count, axis=0)[order],
+                         np.repeat(self.split_lux[split_order], count, axis=0)[order], self.levels, index)
 
 
 def step_grid(span_h: float, step_h: float) -> np.ndarray:
