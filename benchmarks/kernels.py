@@ -33,6 +33,11 @@ def timed(name: str, run: Callable[[], object]) -> tuple[float, object]:
         return time.perf_counter() - began, result
 
 
+def warm_up_worker() -> float:
+    """Run in a worker process: load the compiled kernel there; its first call's time [s]."""
+    return kernel_numba.warm_up().seconds if kernel_numba.AVAILABLE else 0.0
+
+
 def machine_load() -> str:
     """The load average over the last minute beside the core count: times below are only comparable
     at a similar load (other processes share the cores)."""

@@ -295,6 +295,9 @@ class TripRequest:
     quick : QuickTrip or None
         A trip given by its facts instead of a file (:func:`planner.trips.quick.quick_trip_scenario`);
         ``path`` is then ignored.
+    processes : int
+        Processes for the advance and delay searches (:mod:`planner.engine.workers`): 1 = this
+        process, 0 = one per core.  Same plans either way; worth it in a long-running program.
     """
 
     path: str
@@ -307,6 +310,7 @@ class TripRequest:
     by_day: int | None = None
     command: str = "trip"
     quick: QuickTrip | None = None
+    processes: int = 1
 
 
 @dataclass(frozen=True)
@@ -396,7 +400,7 @@ def plan_trip(request: TripRequest, progress: ProgressCallback | None = None, *,
     evidence = info.person
     model = person_model(base_model, evidence)
     _report(progress, "planning", 0, 1)
-    plan = search_trip(trip, model, request.strategy, initial_state=start.state)
+    plan = search_trip(trip, model, request.strategy, initial_state=start.state, processes=request.processes)
     _report(progress, "planning", 1, 1)
     views = day_views(trip, plan.recommended.outcome)
     robust_result = population = ensemble = None

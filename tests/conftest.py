@@ -115,7 +115,7 @@ def memoised_searches() -> pytest.MonkeyPatch:
 
         def memo(*args, _real=real, _cache=cache, **kwargs):
             key = (args[0].name if hasattr(args[0], "name") else id(args[0]), repr(args[1:]),
-                   repr(sorted((k, v) for k, v in kwargs.items() if k != "progress")))
+                   repr(sorted((k, v) for k, v in kwargs.items() if k not in ("progress", "processes"))))
             if key not in _cache:
                 _cache[key] = _real(*args, **kwargs)
             return _cache[key]

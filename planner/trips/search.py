@@ -42,6 +42,7 @@ from planner.engine.markers import (
     phase_difference,
 )
 from planner.engine.parameters import ModelSpec
+from planner.engine.workers import run_side_by_side
 from planner.errors import ComputationError
 from planner.intervals import free_segments
 from planner.trips.lobes import (
@@ -1016,8 +1017,15 @@ def _home_time_wanted(planner: TripPlanner, results: dict, chosen: str) -> str |
     return None
 
 
+def _strategy_job(trip: Trip, model: ModelSpec, initial_state: np.ndarray | None, strategy: Strategy,
+                  seed: int) -> tuple[StrategyResult, int]:
+    """One strategy searched by a planner of its own: its result and the schedules it simulated."""
+    planner = TripPlanner(trip, model, initial_state)
+    return plan_strategy(planner, strategy, seed=seed), planner.evaluator.simulated
+
+
 def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance", "delay"] = "auto",
-              *, seed: int = 0, initial_state: np.ndarray | None = None) -> TripPlanResult:
+              *, seed: int = 0, initial_state: np.ndarray | None = None, processes: int = 1) -> TripPlanResult:
     """Plan a trip: baseline, the requested strategies, and a recommendation.
 
     With ``strategy="auto"`` on a short trip back home (see :func:`_home_time_wanted`),
@@ -1029,11 +1037,18 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
 
     ``initial_state`` (shape (3,)) is the traveller's state at ``trip.start`` from evidence
     (:func:`planner.trips.evidence.starting_phase`); default entrained to the habitual home day.
+
+    ``processes``: processes for the strategies' searches (:func:`planner.engine.workers.run_side_by_side`:
+    1 = this process, 0 = one per core); the plans are the same either way.
     """
     planner = TripPlanner(trip, model, initial_state)
     baseline = planner.baseline()
     wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
-    results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}
+    # The strategies share nothing but the trip: each is searched by its own planner, side by side
+    # on the machine's cores (planner.engine.workers); the plans are those of one planner in turn.
+    searched = run_side_by_side(_strategy_job, [(trip, model, initial_state, name, seed) for name in wanted], processes)
+    results = {name: result for name, (result, _) in zip(wanted, searched)}
+    planner.evaluator.simulated += sum(count for _, count in searched)
     chosen, reason = recommend(results)
     short = _home_time_wanted(planner, results, chosen) if strategy == "auto" else None
     if short is not None:

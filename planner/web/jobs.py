@@ -96,7 +96,7 @@ def plan_document(kind: str, text: str | bytes, name: str, options: dict[str, An
             if kind == "trip":
                 request = service.TripRequest(str(path), options.get("strategy", "auto"), None,
                                               options.get("people", 0), options.get("seed", 0),
-                                              options.get("robust", False))
+                                              options.get("robust", False), processes=0)   # a server: keep workers
                 outcome = service.plan_trip(request, progress)
             else:
                 request = service.RosterRequest(str(path), options.get("strategy", "auto"), options.get("people", 0),
