@@ -523,8 +523,13 @@ def reference(roster: Roster, model: ModelSpec) -> Reference:
     return Reference(steady.state, cbt, bed, wake, amplitude, lag)
 
 
-def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, ref: Reference) -> Metrics:
-    """Metrics of a simulated batch: column j followed ``plans[j]`` (or ``plans[0]`` for all)."""
+def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, ref: Reference,
+            with_sleepiness: bool = True) -> Metrics:
+    """Metrics of a simulated batch: column j followed ``plans[j]`` (or ``plans[0]`` for all).
+
+    ``with_sleepiness`` False leaves out the sleepiness forecast (``Metrics.sleepiness`` None): the
+    searches rank candidates by their score alone, and the forecast is reported for final plans.
+    """
     days = roster_days(roster, draft)
     epoch = result.epoch
     size = result.size
@@ -591,7 +596,7 @@ def measure(roster: Roster, draft: Draft, plans: Sequence[RosterPlan], result, r
     work_low = low.sum(axis=1)
     score = (work_low + awake_in_night) * 7.0 / len(days)
     amplitude = model_amplitude_ratio(result, ref)
-    sleepiness = _sleepiness(roster, plans, size, epoch, cbt, w0, w1, bounds[-1], ref)
+    sleepiness = _sleepiness(roster, plans, size, epoch, cbt, w0, w1, bounds[-1], ref) if with_sleepiness else None
     return Metrics(score, work_low, out_of_phase, awake_in_night, daily_cbt, daily_dlmo, work_low_day, burden, adapted,
                    to_adapt, runs, amplitude, sleepiness)
 
@@ -653,7 +658,8 @@ class RosterEvaluator:
 
     def evaluate(self, draft: Draft, plans: Sequence[RosterPlan], *, final: bool = False,
                  model: ModelSpec | None = None, initial_state: np.ndarray | None = None) -> Metrics:
-        """Simulate plans (one column each) or one plan for a population ``model``; metrics per column."""
+        """Simulate plans (one column each) or one plan for a population ``model``; metrics per column
+        (with ``final``, at the validated step and with the sleepiness forecast)."""
         schedules = [roster_schedule(self.roster, draft, plan) for plan in plans]
         start, end = period(self.roster, draft)
         step = None if final else SEARCH_STEP_MINUTES
@@ -662,7 +668,7 @@ class RosterEvaluator:
         if not result.success:
             raise ComputationError(result.message)
         self.simulated += result.size
-        return measure(self.roster, draft, plans, result, self.ref)
+        return measure(self.roster, draft, plans, result, self.ref, with_sleepiness=final)
 
 
 @dataclass(frozen=True)
@@ -967,7 +973,8 @@ def robust_draft(evaluator: RosterEvaluator, draft: Draft, strategies: Sequence[
     evaluator.simulated += result.size
     people = population.size
     columns = [plan for plan in candidates for _ in range(people)]
-    scores = measure(roster, draft, columns, result, evaluator.ref).score.reshape(len(candidates), people)
+    scores = measure(roster, draft, columns, result, evaluator.ref, with_sleepiness=False).score.reshape(
+        len(candidates), people)
     mean = scores.mean(axis=1)
     best = int(np.argmin(mean))
     plan = candidates[best]
