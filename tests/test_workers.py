@@ -54,3 +54,39 @@ def test_worker_counts(monkeypatch):
     with pytest.raises(InputError, match="processes"):
         worker_count(2, -1)
 
+
+
+def test_workers_end_when_the_program_is_killed(tmp_path):
+    # a program killed outright (SIGKILL, as a supervisor may do) runs no exit handler; its workers
+    # must not linger (POSIX: an orphan's parent becomes another process, so getppid() changes)
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    script = ("import os, sys, time\n"
+              "from planner.engine.workers import run_side_by_side\n"
+              "print(*run_side_by_side(os.getpid, [(), ()], processes=2), flush=True)\n"
+              "time.sleep(60)\n")
+    program = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE, stderr=subprocess.DEVNULL,
+                               text=True)
+    try:
+        workers = sorted({int(pid) for pid in program.stdout.readline().split()})
+        assert workers and program.pid not in workers and all(_running(pid) for pid in workers)
+    finally:
+        program.send_signal(signal.SIGKILL)
+        program.wait()
+    deadline = time.monotonic() + 20
+    alive = workers
+    while alive and time.monotonic() < deadline:
+        time.sleep(0.2)
+        alive = [pid for pid in workers if _running(pid)]
+    assert not alive, f"workers {alive} outlived the killed program"
+
+
+def _running(pid: int) -> bool:
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii") as stat:
+            return stat.read().split(") ")[-1][0] != "Z"     # a zombie has ended
+    except FileNotFoundError:
+        return False

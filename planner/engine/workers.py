@@ -8,7 +8,8 @@ Workers are started with ``spawn`` (forking a process whose compiled kernel has 
 threads can hang or abort), once, on first use, and reused: the first use pays for starting Python
 and loading the kernel from its cache (about 2 s here), later uses do not.  Each job carries the
 caller's integrator kernel choice (``PHASEPLAN_KERNEL``), so a worker computes what the caller would.
-Workers ignore Ctrl-C: the calling process handles the interrupt and its exit code alone.
+Workers ignore Ctrl-C: the calling process handles the interrupt and its exit code alone.  A worker
+ends by itself when the program that started it is gone, also after a kill that runs no exit handler.
 
 Callers ask for workers (``processes=0``: one per core, at most one per job, or ``PHASEPLAN_WORKERS``);
 the default ``1`` keeps every search in the calling process.  A long-running program (``phaseplan
@@ -23,6 +24,8 @@ import atexit
 import multiprocessing
 import os
 import signal
+import threading
+import time
 from concurrent.futures import Executor, ProcessPoolExecutor
 from typing import Any, Callable, Sequence
 
@@ -60,8 +63,22 @@ def worker_count(jobs: int, processes: int = 1) -> int:
     return max(1, min(wanted, jobs))
 
 
-def _ignore_interrupts() -> None:
+#: How often a worker checks that the program that started it still runs [s].
+PARENT_CHECK_SECONDS = 1.0
+
+
+def _watch_parent(parent: int) -> None:
+    while True:
+        time.sleep(PARENT_CHECK_SECONDS)
+        if os.getppid() != parent:
+            os._exit(0)
+
+
+def _start_worker(parent: int) -> None:
+    """In each worker: ignore Ctrl-C (the calling program handles it), and end when the calling
+    program ends however it ends (a program killed outright runs no exit handler to stop its pool)."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    threading.Thread(target=_watch_parent, args=(parent,), daemon=True).start()
 
 
 def _executor(size: int) -> Executor:
@@ -70,7 +87,7 @@ def _executor(size: int) -> Executor:
         if _pool is not None:
             _pool.shutdown(wait=True)
         _pool = ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"),
-                                    initializer=_ignore_interrupts)
+                                    initializer=_start_worker, initargs=(os.getpid(),))
         _pool_size = size
     return _pool
 
