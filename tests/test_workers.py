@@ -27,7 +27,7 @@ def _windows(result) -> dict:
 def test_side_by_side_strategies_give_the_in_process_plans(planned_demos):
     trip, info, in_process = planned_demos("frankfurt-vancouver")
     side_by_side = plan_trip(trip, load_model(info.model), processes=2)
-    # reference: the in-process search of the same trip (same seeds, same model)
+    # regression against the in-process search of the same trip (same seeds, same model): the reference path
     assert side_by_side.strategy == in_process.strategy
     assert _windows(side_by_side) == _windows(in_process)
     assert side_by_side.simulated == in_process.simulated
@@ -38,13 +38,15 @@ def _kernel_seen() -> str | None:
 
 
 def test_a_worker_uses_the_callers_kernel(monkeypatch):
-    # the numpy kernel asked for by the caller (PHASEPLAN_KERNEL, README) holds in the workers too
+    # the numpy kernel asked for by the caller (PHASEPLAN_KERNEL, DEVELOPERS.md) holds in the workers too
+    # (common practice for worker pools: a child computes what its caller would)
     monkeypatch.setenv(KERNEL_ENVIRONMENT, "numpy")
     assert run_side_by_side(_kernel_seen, [(), ()], processes=2) == ["numpy", "numpy"]
 
 
 def test_worker_counts(monkeypatch):
-    # one process per job at most; 1 keeps the work in the calling process (documented contract)
+    # one process per job at most; 1 keeps the work in the calling process (common practice of
+    # concurrent.futures callers; this module's documented contract)
     assert worker_count(2, 1) == 1 and worker_count(2, 8) == 2 and worker_count(1, 0) == 1
     monkeypatch.setenv(WORKERS_ENVIRONMENT, "3")
     assert worker_count(5, 0) == 3
@@ -58,7 +60,7 @@ def test_worker_counts(monkeypatch):
 
 def test_workers_end_when_the_program_is_killed(tmp_path):
     # a program killed outright (SIGKILL, as a supervisor may do) runs no exit handler; its workers
-    # must not linger (POSIX: an orphan's parent becomes another process, so getppid() changes)
+    # must not linger (POSIX.1-2017 _exit(): an orphan's parent becomes another process, so getppid() changes)
     import signal
     import subprocess
     import sys

@@ -27,7 +27,7 @@ AGENDA_BELOW_COLUMNS = 110
 
 def _hhmm(trip: Trip, moment: datetime, row_zone: str, block_date: date | None = None) -> str:
     """Clock time on the row's clock (a zone name marks another clock); with ``block_date``, a
-    time on a later date than the block's carries its weekday ("Mon 00:30"), so a night that
+    time on another date than the block's carries its weekday ("Mon 00:30"), so a night that
     starts after midnight is not read as the block's first hours."""
     at = local(trip, moment)
     label = zone_label(at)
@@ -74,18 +74,19 @@ def print_agenda(console: Console, trip: Trip, views: list[DayView], title: str)
         if last != dates:
             dates += f" → {last}"
         console.print(f"\n[bold]{dates}[/bold] · {day.kind} · {escape(where)} ({escape(row_zone)})")
+        block = start.date()
         items = []
         for a, b in view.sleep:
             setting = sleep_setting(trip, a, b)
-            items.append((a, f"{_span(trip, a, b, row_zone, start.date())}  sleep" + ("" if setting == "bed" else f" {setting}")))
-        items += [_window_line(trip, w, row_zone, start.date()) for w in view.bright + view.avoid]
-        items += [(f.depart, f"{_span(trip, f.depart, f.arrive, row_zone, start.date())}  flight "
+            items.append((a, f"{_span(trip, a, b, row_zone, block)}  sleep" + ("" if setting == "bed" else f" {setting}")))
+        items += [_window_line(trip, w, row_zone, block) for w in view.bright + view.avoid]
+        items += [(f.depart, f"{_span(trip, f.depart, f.arrive, row_zone, block)}  flight "
                              f"{f.origin.name} → {f.destination.name}")
                   for f in trip.flights if day.start <= f.depart < day.end]
         for _, text in sorted(items):
             console.print(f"  {escape(text)}")
         if view.cbtmin is not None:
-            console.print(f"  [dim]CBTmin {escape(_hhmm(trip, view.cbtmin, row_zone, start.date()))}"
+            console.print(f"  [dim]CBTmin {escape(_hhmm(trip, view.cbtmin, row_zone, block))}"
                           f"{escape(_error_text(view))}[/dim]")
         if not items:
             console.print("  [dim]nothing planned[/dim]")

@@ -53,12 +53,6 @@ KSS_MIN, KSS_MAX = 1.0, 9.0
 #: KSS is reported to one decimal (the scale itself has whole steps); a forecast that reads 7.0 counts
 #: as sleepy, so the number shown and the flag beside it always agree (a reporting choice).
 KSS_REPORTED_DECIMALS = 1
-
-
-def reads_sleepy(kss) -> np.ndarray:
-    """Whether KSS, as reported to ``KSS_REPORTED_DECIMALS``, is ``SLEEPY_KSS`` or more."""
-    return np.round(np.asarray(kss, dtype=float), KSS_REPORTED_DECIMALS) >= SLEEPY_KSS
-
 #: Step of the alertness grid [h]: 10 min; Process S moves by under 0.1 alertness units in a step
 #: awake and Process C by under 0.1 (a numerical choice).
 GRID_STEP_H = 1.0 / 6.0
@@ -67,6 +61,11 @@ GRID_STEP_H = 1.0 / 6.0
 STEADY_DAYS = 6
 #: Batches up to this many columns keep the KSS along every shift (for charts); larger search batches do not.
 PROFILE_MAX_COLUMNS = 8
+
+
+def reads_sleepy(kss) -> np.ndarray:
+    """Whether KSS, as reported to ``KSS_REPORTED_DECIMALS``, is ``SLEEPY_KSS`` or more."""
+    return np.round(np.asarray(kss, dtype=float), KSS_REPORTED_DECIMALS) >= SLEEPY_KSS
 
 
 @dataclass(frozen=True)

@@ -42,7 +42,7 @@ from planner.engine.markers import (
     phase_difference,
 )
 from planner.engine.parameters import ModelSpec
-from planner.engine.workers import run_side_by_side
+from planner.engine.workers import run_side_by_side, worker_count
 from planner.errors import ComputationError
 from planner.intervals import free_segments
 from planner.trips.lobes import (
@@ -1044,11 +1044,15 @@ def plan_trip(trip: Trip, model: ModelSpec, strategy: Literal["auto", "advance",
     planner = TripPlanner(trip, model, initial_state)
     baseline = planner.baseline()
     wanted = ("advance", "delay") if strategy == "auto" else (strategy,)
-    # The strategies share nothing but the trip: each is searched by its own planner, side by side
-    # on the machine's cores (planner.engine.workers); the plans are those of one planner in turn.
-    searched = run_side_by_side(_strategy_job, [(trip, model, initial_state, name, seed) for name in wanted], processes)
-    results = {name: result for name, (result, _) in zip(wanted, searched)}
-    planner.evaluator.simulated += sum(count for _, count in searched)
+    if worker_count(len(wanted), processes) > 1:
+        # The strategies share nothing but the trip: side by side on the machine's cores, each searched
+        # by a planner of its own (planner.engine.workers); the plans are those of one planner in turn.
+        searched = run_side_by_side(_strategy_job, [(trip, model, initial_state, name, seed) for name in wanted],
+                                    processes)
+        results = {name: result for name, (result, _) in zip(wanted, searched)}
+        planner.evaluator.simulated += sum(count for _, count in searched)
+    else:   # in this process, one planner in turn: its entrained targets and caches serve both
+        results = {name: plan_strategy(planner, name, seed=seed) for name in wanted}
     chosen, reason = recommend(results)
     short = _home_time_wanted(planner, results, chosen) if strategy == "auto" else None
     if short is not None:
