@@ -25,6 +25,27 @@ def free_segments(start: datetime, end: datetime,
     return sorted((s, e) for s, e in segments if e > s)
 
 
+class SortedSpans:
+    """Intervals (start, end) kept in order of start, which answers which of them overlap a
+    given interval without looking at the others (a search asks this many thousand times)."""
+
+    __slots__ = ("spans", "_starts", "_longest")
+
+    def __init__(self, spans: Iterable[tuple[datetime, datetime]]):
+        self.spans = sorted(spans)
+        self._starts = [a for a, _ in self.spans]
+        self._longest = max((b - a for a, b in self.spans), default=None)
+
+    def overlapping(self, start: datetime, end: datetime) -> list[tuple[datetime, datetime]]:
+        """The spans with a part inside (start, end), in order of start."""
+        if self._longest is None:
+            return []
+        # a span overlapping (start, end) starts before ``end`` and no longer than the longest span before ``start``
+        first = bisect.bisect_right(self._starts, start - self._longest)
+        last = bisect.bisect_left(self._starts, end)
+        return [(a, b) for a, b in self.spans[first:last] if b > start]
+
+
 def parts_inside(spans: Sequence[tuple[datetime, datetime]], ends: Sequence[datetime], start: datetime,
                  end: datetime) -> list[tuple[datetime, datetime]]:
     """The parts of [start, end] inside ``spans`` (in time order, not overlapping; ``ends`` their ends),

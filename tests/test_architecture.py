@@ -23,7 +23,7 @@ import pytest
 PACKAGE = Path(__file__).resolve().parent.parent / "planner"
 
 BASE = {"planner._version", "planner.errors", "planner.tomlfile", "planner.outputs", "planner.shipped",
-        "planner.intervals"}
+        "planner.intervals", "planner.hashing"}
 FRONT_ENDS = ("planner.cli", "planner.web", "planner.__main__")
 
 

@@ -13,6 +13,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from planner.errors import ScheduleError
+from planner.world import segments_numba
 from planner.world.light import (
     EDGE_TOLERANCE_H,
     LightLayer,
@@ -241,3 +242,29 @@ def test_lux_at_matches_a_brute_force_reading_of_the_layers(layers, background, 
         # analytic: the layer rules applied in order at that instant
         assert float(schedule.lux_at(np.array([hour]))[0]) == pytest.approx(brute_force_lux(background, layers, hour),
                                                                            rel=1e-12, abs=1e-12)
+
+
+@st.composite
+def crowded_layer_sets(draw):
+    """Layer sets whose edges often coincide or lie within the edge tolerance of each other."""
+    layers = draw(layer_sets())
+    for _ in range(draw(st.integers(0, 3))):
+        start = draw(st.sampled_from([0.0, 1.0, 5.5, 24.0])) + draw(st.sampled_from([0.0, 1e-12, -1e-12, 1e-6]))
+        kind = draw(st.sampled_from(list(KIND_VALUES)))
+        layers.append((start, start + draw(st.sampled_from([0.5, 1.0 + 1e-12, 23.0])), kind, draw(KIND_VALUES[kind])))
+    return layers
+
+
+@pytest.mark.skipif(not segments_numba.AVAILABLE, reason="numba is not installed")
+@settings(max_examples=120, deadline=None)
+@given(crowded_layer_sets(), st.floats(0.0, 1000.0))
+def test_compiled_and_numpy_schedule_builders_agree_to_the_bit(layers, background):
+    # the numpy builder is the reference (the compiled one is a loop translation of it)
+    table = [LightLayer(at(a), at(b), kind, value) for a, b, kind, value in layers]
+    built = {}
+    for path in ("numpy", "compiled"):
+        with pytest.MonkeyPatch.context() as patch:
+            patch.setenv(segments_numba.KERNEL_ENVIRONMENT, path)
+            built[path] = LightSchedule.from_layers(at(0), at(24), background, table)
+    assert np.array_equal(built["numpy"].edges_h, built["compiled"].edges_h)
+    assert np.array_equal(built["numpy"].lux, built["compiled"].lux)

@@ -36,6 +36,7 @@ from planner.engine.oscillators import ProcessLCoefficients
 from planner.engine.parameters import ModelSpec
 from planner.engine.process_l import MINUTES_PER_HOUR
 from planner.errors import InputError
+from planner.world import segments_numba
 from planner.world.light import GridLight, LightSchedule, sample_on_grid
 
 #: Steps whose Process L maps are built together; bounds memory to CHUNK·N per map.
@@ -44,8 +45,9 @@ CHUNK_STEPS = 256
 #: Sub-steps used by :func:`fine_steps` to re-integrate one grid step (a 30-min step in 1-min steps).
 FINE_SUBSTEPS = 30
 
-#: Environment variable choosing the kernel when no ``kernel`` argument is given.
-KERNEL_ENVIRONMENT = "PHASEPLAN_KERNEL"
+#: Environment variable choosing the kernel when no ``kernel`` argument is given (light schedules
+#: are built on the same path: :mod:`planner.world.segments_numba`).
+KERNEL_ENVIRONMENT = segments_numba.KERNEL_ENVIRONMENT
 KERNELS = ("auto", "numpy", "compiled")
 
 STATUS_SUCCESS = 0
@@ -304,14 +306,15 @@ def _integrate_numpy(model: ModelSpec, light: GridLight,
     split_lengths = light.split_lengths[order]
     split_lux = light.split_lux[order]
     nominal = float(lengths.max()) if steps else 0.0
-    per_level = None
+    per_level = level_index = None
     if light.level_index is not None and _shared(pl) and steps:
+        level_index = light.level_index_by_step()   # read one step (row) at a time
         levels = light.levels
         per_level = np.stack([np.asarray(f) for f in _fields(process_l.step_maps([np.full(levels.shape, nominal)],
                                                                                   [levels], pl))], axis=1)
     # Overflow is detected below and reported in the result, so numpy's warnings are silenced.
     with np.errstate(over="ignore", invalid="ignore"):
-        failure = _advance(family, c, pl, light, lengths, states, y, n, per_level, nominal,
+        failure = _advance(family, c, pl, light, lengths, states, y, n, per_level, level_index, nominal,
                            split_step, split_column, split_lengths, split_lux)
     if steps:
         drives[:steps] = process_l.drive(light.lux, states[:steps, 2], pl)
@@ -321,7 +324,7 @@ def _integrate_numpy(model: ModelSpec, light: GridLight,
     return states, drives, failure
 
 
-def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, nominal,
+def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, level_index, nominal,
              split_step, split_column, split_lengths, split_lux) -> tuple[int, int] | None:
     """Run the fixed-step scheme over the grid, filling ``states``; the first non-finite (step, column) or None."""
     derivatives = family.derivatives
@@ -332,7 +335,7 @@ def _advance(family, c, pl, light: GridLight, lengths, states, y, n, per_level, 
         chunk_h = lengths[chunk_start:chunk_end, None]
         if per_level is not None:
             # Shared Process L: the maps of a full step depend only on the lux level.
-            block = per_level[light.level_index[chunk_start:chunk_end]]   # one gather: (S, N, 8)
+            block = per_level[level_index[chunk_start:chunk_end]]   # one gather: (S, N, 8)
             n_gain, n_offset, g1, g2, g3, o1, o2, o3 = (block[..., f] for f in range(8))
             short = np.nonzero(np.abs(chunk_h[:, 0] - nominal) > 1e-9)[0]   # only the last step can be shorter
             if short.size:

@@ -61,6 +61,24 @@ PROCESS_L_ORDER = ("alpha0", "decay", "p", "I0", "G")
 
 #: Rates in the model files are per minute; the integrator's clock is in hours.
 _MINUTES_PER_HOUR = 60.0
+#: Options of every compiled function.  Cached on disk; numpy's error model, under which a
+#: division by zero gives inf or nan as in the numpy path instead of raising: the zero test of
+#: Python's model sits in every loop that divides and stops the compiler from vectorising it
+#: (measured: hannay2019's Runge-Kutta loop, which divides by R, 6× slower).  A state that turns
+#: non-finite is caught as a failed column either way.
+_COMPILED = {"cache": True, "error_model": "numpy"}
+#: 2π in three parts for the reduction of an angle (Cody & Waite 1980): the first two hold 32
+#: significant bits each, so their products with a whole number of turns below 2²¹ are exact;
+#: and 1/(2π).
+_TWO_PI_HIGH = 6.2831853069365025
+_TWO_PI_MIDDLE = 2.4308402025215864e-10
+_TWO_PI_LOW = 8.089064995183803e-21
+_INVERSE_TWO_PI = 0.15915494309189535
+#: Taylor coefficients of sin (odd powers) and cos (even powers): (−1)^k / n!.
+_SIN_3, _SIN_5, _SIN_7, _SIN_9, _SIN_11, _SIN_13, _SIN_15, _SIN_17 = (
+    (-1.0) ** k / math.factorial(2 * k + 1) for k in range(1, 9))
+_COS_2, _COS_4, _COS_6, _COS_8, _COS_10, _COS_12, _COS_14, _COS_16, _COS_18 = (
+    (-1.0) ** k / math.factorial(2 * k) for k in range(1, 10))
 #: Columns a thread advances together (one cache line of float64 is 8).
 _BLOCK = 16
 #: Steps whose length differs from the nominal step by more than this get their own maps [h].
@@ -129,7 +147,7 @@ def set_thread_count(count: int) -> None:
 
 
 if AVAILABLE:
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _activation(lux, form, alpha0, p, i0):
         """α [1/min] for ``lux`` (see :func:`planner.engine.process_l.activation_rate`)."""
         if form == 0:
@@ -137,7 +155,7 @@ if AVAILABLE:
         powered = lux ** p
         return alpha0 * powered / (powered + i0)
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _single_piece(length, lux, form, pl, out):
         """Maps of a step of constant light, into ``out`` (n_gain, n_offset, g1, g2, g3, o1, o2, o3);
         :func:`planner.engine.process_l._single_piece_maps` term for term."""
@@ -159,7 +177,7 @@ if AVAILABLE:
         out[0] = b2
         out[1] = n_inf * (1.0 - b2)
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _pieces(lengths, levels, form, pl, out):
         """Maps of a step split into pieces of constant light (``lengths`` [h], ``levels`` [lux]);
         :func:`planner.engine.process_l.step_maps` term for term."""
@@ -195,7 +213,7 @@ if AVAILABLE:
         out[0] = gain
         out[1] = offset
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _forger_derivatives(y0, y1, u, c, b):
         """Forger, Jewett & Kronauer (1999): dx/dt = (π/12)·(xc + B),
         dxc/dt = (π/12)·(μ·(xc − 4·xc³/3) − x·[(24/(f·τx))² + k·B]), B = B̂·(1 − 0.4·x)·(1 − 0.4·xc)."""
@@ -205,7 +223,7 @@ if AVAILABLE:
         d1 = w * (mu * (y1 - (4.0 / 3.0) * y1 * y1 * y1) - y0 * (omega_sq + k * light))
         return d0, d1
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _jewett_derivatives(y0, y1, u, c, b):
         """Jewett, Forger & Kronauer (1999): dx/dt = (π/12)·(xc + μ·(x/3 + 4·x³/3 − 256·x⁷/105) + B),
         dxc/dt = (π/12)·(q·B·xc − x·[(24/(f·τx))² + k·B])."""
@@ -218,24 +236,29 @@ if AVAILABLE:
         d1 = w * (q * light * y1 - y0 * (omega_sq + k * light))
         return d0, d1
 
-    @njit(cache=True)
-    def _turned(cos_a, sin_a, d):
-        """cos and sin of a + d from those of a, for the small turn d [rad] of one Runge-Kutta stage.
+    @njit(**_COMPILED)
+    def _cos_sin(angle):
+        """cos and sin of ``angle`` [rad] with no branch and no call, so that the compiler can
+        vectorise the loop around it (a call of math.cos or math.sin stops it from doing so).
 
-        Below 0.5 rad the Taylor series of cos d and sin d to d¹⁴ and d¹³ (remainder under 1e-17)
-        replace two calls of the transcendental functions; a larger turn calls them."""
-        if abs(d) < 0.5:
-            q = d * d
-            sin_d = d * (1.0 - q / 6.0 * (1.0 - q / 20.0 * (1.0 - q / 42.0 * (1.0 - q / 72.0 * (
-                1.0 - q / 110.0 * (1.0 - q / 156.0))))))
-            cos_d = 1.0 - q / 2.0 * (1.0 - q / 12.0 * (1.0 - q / 30.0 * (1.0 - q / 56.0 * (
-                1.0 - q / 90.0 * (1.0 - q / 132.0 * (1.0 - q / 182.0))))))
-        else:
-            sin_d = math.sin(d)
-            cos_d = math.cos(d)
-        return cos_a * cos_d - sin_a * sin_d, sin_a * cos_d + cos_a * sin_d
+        The angle is reduced to r in [−π, π] (2π in three parts, Cody & Waite 1980, so that the
+        reduction adds no error of its own over the few thousand radians of a long run); cos and
+        sin of r/4 come from their Taylor series to r¹⁸ and r¹⁷ (remainder under 1e-19 for
+        |r/4| ≤ π/4), and two doublings give those of r.  Agrees with numpy's cos and sin to a
+        few units in the last place (tests/test_kernel.py)."""
+        turns = math.floor(angle * _INVERSE_TWO_PI + 0.5)
+        reduced = ((angle - turns * _TWO_PI_HIGH) - turns * _TWO_PI_MIDDLE) - turns * _TWO_PI_LOW
+        q = 0.25 * reduced
+        s = q * q
+        sin_q = q * (1.0 + s * (_SIN_3 + s * (_SIN_5 + s * (_SIN_7 + s * (_SIN_9 + s * (
+            _SIN_11 + s * (_SIN_13 + s * (_SIN_15 + s * _SIN_17))))))))
+        cos_q = 1.0 + s * (_COS_2 + s * (_COS_4 + s * (_COS_6 + s * (_COS_8 + s * (
+            _COS_10 + s * (_COS_12 + s * (_COS_14 + s * (_COS_16 + s * _COS_18))))))))
+        sin_h = 2.0 * sin_q * cos_q
+        cos_h = (cos_q - sin_q) * (cos_q + sin_q)
+        return (cos_h - sin_h) * (cos_h + sin_h), 2.0 * sin_h * cos_h
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _hannay_derivatives(r, cos_psi, sin_psi, u, c, b):
         """Hannay, Booth & Forger (2019): dR/dt = −γ·R + (K/2)·cos(β1)·R·(1 − R⁴) + L_R,
         dψ/dt = ω0 + (K/2)·sin(β1)·(1 + R⁴) + L_ψ; ψ given by its cosine and sine."""
@@ -256,7 +279,7 @@ if AVAILABLE:
               - a1 * (r * r * r + 1.0 / r) * sin_first - a2 * (1.0 + r8) * sin_second)
         return d0, d1
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _forger_steps(x, xc, drive, c, h, width):
         """One classical RK4 step of every column of a block (Forger, Jewett & Kronauer 1999).
 
@@ -280,7 +303,7 @@ if AVAILABLE:
             xc[b] = y1 + sixth * (a1 + 2.0 * (b1 + c1) + d1)
             drive[8, b] = drive[0, b] * n + drive[1, b]
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _jewett_steps(x, xc, drive, c, h, width):
         """One classical RK4 step of every column of a block (Jewett, Forger & Kronauer 1999).
 
@@ -304,16 +327,15 @@ if AVAILABLE:
             xc[b] = y1 + sixth * (a1 + 2.0 * (b1 + c1) + d1)
             drive[8, b] = drive[0, b] * n + drive[1, b]
 
-    @njit(cache=True)
+    @njit(**_COMPILED)
     def _hannay_steps(x, xc, drive, c, h, width):
         """One classical RK4 step of every column of a block (Hannay, Booth & Forger 2019).
 
         ``drive`` rows 2–4 are the stages' mean-drive gains and rows 5–7 their offsets, affine in
         n (row 8), which rows 0–1 advance.  One loop per family on purpose: with the family
         tested inside the loop the compiler no longer vectorises it (measured 2.7× slower).
-        cos ψ and sin ψ are computed once per step; each later stage turns them by its small
-        increment of ψ (:func:`_turned`), where the numpy kernel calls cos and sin at every stage:
-        the two agree to rounding (tests/test_kernel.py)."""
+        cos ψ and sin ψ of every stage come from :func:`_cos_sin`, where the numpy kernel calls
+        numpy's cos and sin: the two agree to rounding (tests/test_kernel.py)."""
         half = 0.5 * h
         sixth = h / 6.0
         for b in range(width):
@@ -323,20 +345,19 @@ if AVAILABLE:
             u_last = drive[4, b] * n + drive[7, b]
             y0 = x[b]
             y1 = xc[b]
-            cos_psi = math.cos(y1)
-            sin_psi = math.sin(y1)
-            a0, a1 = _hannay_derivatives(y0, cos_psi, sin_psi, u_first, c, b)
-            cos_b, sin_b = _turned(cos_psi, sin_psi, half * a1)
+            cos_a, sin_a = _cos_sin(y1)
+            a0, a1 = _hannay_derivatives(y0, cos_a, sin_a, u_first, c, b)
+            cos_b, sin_b = _cos_sin(y1 + half * a1)
             b0, b1 = _hannay_derivatives(y0 + half * a0, cos_b, sin_b, u_middle, c, b)
-            cos_c, sin_c = _turned(cos_psi, sin_psi, half * b1)
+            cos_c, sin_c = _cos_sin(y1 + half * b1)
             c0, c1 = _hannay_derivatives(y0 + half * b0, cos_c, sin_c, u_middle, c, b)
-            cos_d, sin_d = _turned(cos_psi, sin_psi, h * c1)
+            cos_d, sin_d = _cos_sin(y1 + h * c1)
             d0, d1 = _hannay_derivatives(y0 + h * c0, cos_d, sin_d, u_last, c, b)
             x[b] = y0 + sixth * (a0 + 2.0 * (b0 + c0) + d0)
             xc[b] = y1 + sixth * (a1 + 2.0 * (b1 + c1) + d1)
             drive[8, b] = drive[0, b] * n + drive[1, b]
 
-    @njit(cache=True, parallel=True)
+    @njit(parallel=True, **_COMPILED)
     def _level_tables(form, process_l, nominal, levels, level_maps, level_alpha):
         """Maps of a full step at each lux level, and α at each level, for every column of ``process_l``
         (one column when the batch shares its Process L parameters)."""
@@ -346,7 +367,7 @@ if AVAILABLE:
                 _single_piece(nominal, levels[u], form, pl, level_maps[j, u])
                 level_alpha[j, u] = _activation(levels[u], form, pl[0], pl[2], pl[3])
 
-    @njit(cache=True, parallel=True)
+    @njit(parallel=True, **_COMPILED)
     def _integrate_columns(family, form, coefficients, process_l, lengths, nominal, levels, level_index,
                            split_first, split_step, split_lengths, split_lux, state0, states, drives, failed,
                            level_maps, level_alpha, table_of_column):
@@ -390,7 +411,7 @@ if AVAILABLE:
                 full = abs(h - nominal) <= _NOMINAL_TOLERANCE_H
                 for b in range(width):
                     j = first + b
-                    level = level_index[k, j]
+                    level = level_index[j, k]
                     drives[k, j] = pl[b, 4] * level_alpha[table[b], level] * (1.0 - drive[8, b])
                     if split[b] < split_first[j + 1] and split_step[split[b]] == k:
                         _pieces(split_lengths[split[b]], split_lux[split[b]], form, pl[b], maps)
@@ -427,10 +448,10 @@ if AVAILABLE:
                 if steps == 0:
                     drives[0, j] = 0.0
                 else:
-                    drives[steps, j] = pl[b, 4] * level_alpha[table[b], level_index[steps - 1, j]] * (1.0 - drive[8, b])
+                    drives[steps, j] = pl[b, 4] * level_alpha[table[b], level_index[j, steps - 1]] * (1.0 - drive[8, b])
 
 
-    @njit(cache=True, parallel=True)
+    @njit(parallel=True, **_COMPILED)
     def _fine_columns(family, form, coefficients, process_l, times, rows, columns, states, levels, level_index,
                       split_first, split_step, split_lengths, split_lux, substeps, out_times, out_path):
         """Re-integrate single grid steps in ``substeps`` sub-steps; see :func:`fine_steps`.
@@ -459,7 +480,7 @@ if AVAILABLE:
                 length = times[r + 1] - start
                 used = 1
                 piece_lengths[0] = length
-                piece_lux[0] = levels[level_index[r, j]]
+                piece_lux[0] = levels[level_index[j, r]]
                 lo_index = split_first[j]
                 hi_index = split_first[j + 1]
                 found = lo_index + np.searchsorted(split_step[lo_index:hi_index], r)
@@ -545,17 +566,27 @@ def _pack_batch(model, light) -> tuple[np.ndarray, ...]:
     process_l = _packed(lambda name: getattr(model.process_l, name), PROCESS_L_ORDER, size)
     if light.level_index is not None and light.levels is not None:
         levels = np.ascontiguousarray(light.levels, dtype=float)
-        level_index = np.ascontiguousarray(light.level_index, dtype=np.int32)
+        # (N, K): each column's steps next to each other, as the kernel walks them (no copy when
+        # the grid was sampled, which lays the index out this way)
+        level_index = np.ascontiguousarray(light.level_index.T, dtype=np.int32)
     else:
         levels, inverse = np.unique(light.lux, return_inverse=True)
-        level_index = inverse.reshape(light.lux.shape).astype(np.int32)
-    # Split steps grouped by column, in step order within each column (CSR-like offsets).
-    order = np.lexsort((light.split_step, light.split_column))
-    split_column = np.asarray(light.split_column)[order]
+        level_index = np.ascontiguousarray(inverse.reshape(light.lux.shape).T, dtype=np.int32)
+    # Split steps grouped by column, in step order within each column (CSR-like offsets); sampling
+    # already gives them in this order, which is then kept without a sort.
+    split_column = np.asarray(light.split_column, dtype=np.int64)
+    split_step = np.asarray(light.split_step, dtype=np.int64)
+    split_lengths = np.asarray(light.split_lengths, dtype=float)
+    split_lux = np.asarray(light.split_lux, dtype=float)
+    key = split_column * (light.times.size + 1) + split_step
+    if np.any(key[1:] < key[:-1]):
+        order = np.argsort(key, kind="stable")
+        split_column, split_step = split_column[order], split_step[order]
+        split_lengths, split_lux = split_lengths[order], split_lux[order]
     split_first = np.searchsorted(split_column, np.arange(size + 1)).astype(np.int64)
-    split_step = np.ascontiguousarray(np.asarray(light.split_step, dtype=np.int64)[order])
-    split_lengths = np.ascontiguousarray(np.asarray(light.split_lengths, dtype=float)[order])
-    split_lux = np.ascontiguousarray(np.asarray(light.split_lux, dtype=float)[order])
+    split_step = np.ascontiguousarray(split_step)
+    split_lengths = np.ascontiguousarray(split_lengths)
+    split_lux = np.ascontiguousarray(split_lux)
     return coefficients, process_l, levels, level_index, split_first, split_step, split_lengths, split_lux
 
 

@@ -25,6 +25,7 @@ from planner.engine.entrainment import BASELINE_OUTDOOR_H, entrain, place_patter
 from planner.engine.markers import HOURS_PER_DAY
 from planner.engine.parameters import ModelSpec
 from planner.errors import ComputationError, InputError
+from planner.hashing import hash_once
 from planner.intervals import free_segments, parts_inside
 from planner.world.daylight import daylight_for
 from planner.world.light import (
@@ -87,6 +88,7 @@ class Busy:
     label: str = "busy"
 
 
+@hash_once
 @dataclass(frozen=True)
 class Trip:
     """A trip to plan.

@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from datetime import datetime, timedelta
 from typing import Callable, Literal, Sequence
 
@@ -44,7 +44,7 @@ from planner.engine.markers import (
 from planner.engine.parameters import ModelSpec
 from planner.engine.workers import run_side_by_side, worker_count
 from planner.errors import ComputationError
-from planner.intervals import free_segments
+from planner.intervals import SortedSpans, free_segments
 from planner.trips.lobes import (
     LOBE_H,
     MAX_AVOIDANCE_H,
@@ -138,8 +138,15 @@ class Outcome:
     aim: Aim = "route"
     #: Largest |CBTmin − target| from the arrival day until the return flight (or the end) [h].
     max_away_error_h: float = math.nan
-    #: Every simulated CBTmin of the plan (UTC), in order.
-    cbtmins: tuple[datetime, ...] = ()
+    #: Every simulated CBTmin of the plan [h since ``epoch``], in order (see :attr:`cbtmins`).
+    cbtmin_hours: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False, compare=False)
+    epoch: datetime | None = field(default=None, repr=False, compare=False)
+
+    @cached_property
+    def cbtmins(self) -> tuple[datetime, ...]:
+        """Every simulated CBTmin of the plan (UTC), in order (made when first asked for: the
+        search simulates thousands of plans and looks at the CBTmin times of a few)."""
+        return tuple(self.epoch + timedelta(hours=float(h)) for h in self.cbtmin_hours if math.isfinite(h))
 
     @property
     def near_low_amplitude(self) -> bool:
@@ -289,10 +296,9 @@ class Evaluator:
             shift = float(net[j])
             direction = "none" if abs(shift) < 1.0 else ("delay" if shift > 0 else "advance")
             score = float(person[j] + plan_burden_days(self.trip, plan))
-            every = tuple(epoch + timedelta(hours=float(h)) for h in markers[j] if math.isfinite(h))
             outcomes.append(Outcome(plan, days_of[j], None if math.isinf(settled[j]) else int(settled[j]), shift,
                                     direction, float(amplitude_ratio[j]), score, aim,
-                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, every))
+                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, markers[j], epoch))
         return outcomes
 
 
@@ -466,6 +472,7 @@ class TripPlanner:
         self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
         self._lattice_of: dict = {}     # (anchor, offset) -> window start (_lattice_after)
         self._fitted: dict = {}         # what fit_window gave (_fit)
+        self._caps = {"light box": trip.light.box_max_minutes, "daylight": trip.light.daylight_max_minutes}
 
     # A plan is a list of DayChoice plus anchors (predicted CBTmin per day).
     def build(self, choices: Sequence[DayChoice], anchors: Sequence[datetime], strategy: Strategy) -> Plan:
@@ -510,8 +517,8 @@ class TripPlanner:
         bright, avoid, used = list(bright), list(avoid), dict(used_items)
         forbidden = self._forbidden_of.get(sleep)
         if forbidden is None:
-            forbidden = self._forbidden_of[sleep] = _forbidden(self.trip, sleep)
-        caps = {"light box": self.trip.light.box_max_minutes, "daylight": self.trip.light.daylight_max_minutes}
+            forbidden = self._forbidden_of[sleep] = SortedSpans(_forbidden(self.trip, sleep))
+        caps = self._caps
         # A day's windows sit on either side of its CBTmin, so they may fall on the evening
         # before the day (delaying light before a CBTmin just after midnight): each is bounded
         # by its lobe of the anchor (:func:`lobe`), not by the calendar day.
@@ -542,7 +549,7 @@ class TripPlanner:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
 
-    def _fit(self, start: datetime, end: datetime, source: str, forbidden: list, placed: list) -> Window | None:
+    def _fit(self, start: datetime, end: datetime, source: str, forbidden: SortedSpans, placed: list) -> Window | None:
         """:func:`fit_window` for ``forbidden`` and the windows already ``placed``, remembered: only the
         placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
         differ elsewhere share the answer."""
@@ -553,7 +560,8 @@ class TripPlanner:
             return window
         if len(self._fitted) > PLACED_CACHE_SIZE:
             self._fitted.clear()
-        window = self._fitted[key] = fit_window(self.trip, start, end, source, forbidden + list(near))
+        window = self._fitted[key] = fit_window(self.trip, start, end, source,
+                                                forbidden.overlapping(start, end) + list(near))
         return window
 
     def _lattice_after(self, anchor: datetime, offset_h: float) -> datetime:
@@ -654,7 +662,8 @@ class TripPlanner:
             plans = {}
             for option in options:
                 trial = list(choices)
-                trial[day.index] = replace(option, travel_sleep=choices[day.index].travel_sleep)
+                travel_sleep = choices[day.index].travel_sleep
+                trial[day.index] = option if option.travel_sleep == travel_sleep else replace(option, travel_sleep=travel_sleep)
                 for later in range(day.index + 1, len(trial)):
                     if self.days[later].kind == "preparation":
                         trial[later] = DayChoice(sleep_shift_h=option.sleep_shift_h)

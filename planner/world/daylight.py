@@ -253,6 +253,11 @@ def _jd_array(when_utc) -> np.ndarray:
     return np.array([_jd_of(m.astimezone(UTC)) for m in when_utc])
 
 
+#: Mean daylight of each piece [lux] by (start, end, place and sky); cleared past _PIECE_MEANS_KEPT entries.
+_PIECE_MEANS: dict = {}
+_PIECE_MEANS_KEPT = 200_000
+
+
 @lru_cache(maxsize=4096)
 def _pieces(start: datetime, end: datetime, latitude: float, longitude: float, sky: Sky, exposure: Exposure,
             cap_lux: float | None) -> tuple[tuple[datetime, datetime, float], ...]:
@@ -267,17 +272,27 @@ def _pieces(start: datetime, end: datetime, latitude: float, longitude: float, s
         bounds.append(cursor)
         cursor += piece
     bounds.append(end)
-    jd0 = _jd_of(start)
-    edges = np.array([hours_between(start, b) for b in bounds])
-    # Simpson's rule over each piece: ends and middle.
-    samples = np.stack([edges[:-1], 0.5 * (edges[:-1] + edges[1:]), edges[1:]], axis=1)
-    jd = jd0 + samples / 24.0
-    elevation = _elevation_from_jd(jd, latitude, longitude)
-    lux = eye_illuminance(elevation, sky, exposure, _day_of_year(jd))
-    mean = (lux[:, 0] + 4.0 * lux[:, 1] + lux[:, 2]) / 6.0
-    if cap_lux is not None:
-        mean = np.minimum(mean, cap_lux)
-    return tuple((bounds[k], bounds[k + 1], float(mean[k])) for k in range(mean.size))
+    # Each piece's mean is remembered: windows of many plans cover the same pieces of the grid.
+    rest = (latitude, longitude, sky, exposure, cap_lux)
+    keys = [(bounds[k], bounds[k + 1], rest) for k in range(len(bounds) - 1)]
+    missing = [k for k, key in enumerate(keys) if key not in _PIECE_MEANS]
+    if missing:
+        if len(_PIECE_MEANS) + len(missing) > _PIECE_MEANS_KEPT:
+            _PIECE_MEANS.clear()
+            missing = list(range(len(keys)))
+        # Simpson's rule over each piece, from its own start: ends and middle.
+        length = np.array([hours_between(bounds[k], bounds[k + 1]) for k in missing])
+        jd = np.array([_jd_of(bounds[k]) for k in missing])[:, None] + np.stack(
+            [np.zeros_like(length), 0.5 * length, length], axis=1) / 24.0
+        elevation = _elevation_from_jd(jd, latitude, longitude)
+        lux = eye_illuminance(elevation, sky, exposure, _day_of_year(jd))
+        mean = (lux[:, 0] + 4.0 * lux[:, 1] + lux[:, 2]) / 6.0
+        if cap_lux is not None:
+            mean = np.minimum(mean, cap_lux)
+        for k, value in zip(missing, mean.tolist()):
+            _PIECE_MEANS[keys[k]] = value
+    mean = [_PIECE_MEANS[key] for key in keys]
+    return tuple((bounds[k], bounds[k + 1], mean[k]) for k in range(len(mean)))
 
 
 @lru_cache(maxsize=4096)
@@ -296,15 +311,21 @@ def daylight_layers(start: datetime, end: datetime, latitude_deg: float, longitu
     The span is cut into pieces of :data:`PIECE_MINUTES` on a fixed UTC grid; each piece carries the
     mean daylight at the eye over it (Simpson's rule), capped at ``cap_lux`` when given [lux].
     """
+    arguments = _piece_arguments(start, end, latitude_deg, longitude_deg, sky, exposure, cap_lux)
+    return [] if arguments is None else list(_layers(*arguments, source))
+
+
+def _piece_arguments(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, sky: Sky,
+                     exposure: Exposure, cap_lux: float | None) -> tuple | None:
+    """The checked arguments of :func:`_pieces` for a span and place; None for an empty span."""
     lat = _check_coordinate(latitude_deg, "latitude", 90.0, "latitude")
     lon = _check_coordinate(longitude_deg, "longitude", 180.0, "longitude")
     if cap_lux is not None and (not math.isfinite(cap_lux) or cap_lux < 0):
         raise InputError(f"the daylight cap must be a finite number >= 0 lux, got {cap_lux}", field="daylight_lux")
     start, end = start.astimezone(UTC), end.astimezone(UTC)
     if end <= start:
-        return []
-    return list(_layers(start, end, lat, lon, check_sky(sky), check_exposure(exposure),
-                        None if cap_lux is None else float(cap_lux), source))
+        return None
+    return start, end, lat, lon, check_sky(sky), check_exposure(exposure), None if cap_lux is None else float(cap_lux)
 
 
 def mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, *,
@@ -318,11 +339,14 @@ def mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude
 def _mean_daylight(start: datetime, end: datetime, latitude_deg: float, longitude_deg: float, sky: Sky,
                    exposure: Exposure, cap_lux: float | None) -> float:
     # remembered: the trip search asks for the same windows of many candidate plans
-    layers = daylight_layers(start, end, latitude_deg, longitude_deg, sky=sky, exposure=exposure, cap_lux=cap_lux)
-    total = sum(hours_between(layer.start, layer.end) for layer in layers)
+    arguments = _piece_arguments(start, end, latitude_deg, longitude_deg, sky, exposure, cap_lux)
+    if arguments is None:
+        return 0.0
+    pieces = _pieces(*arguments)   # those of daylight_layers, without making layers of them
+    total = sum(hours_between(a, b) for a, b, _ in pieces)
     if total <= 0:
         return 0.0
-    return sum(layer.value * hours_between(layer.start, layer.end) for layer in layers) / total
+    return sum(lux * hours_between(a, b) for a, b, lux in pieces) / total
 
 
 @dataclass(frozen=True)

@@ -22,6 +22,8 @@ from typing import Literal, Sequence
 import numpy as np
 
 from planner.errors import ScheduleError
+from planner.hashing import hash_once
+from planner.world import segments_numba
 
 SECONDS_PER_HOUR = 3600.0
 #: Edges closer than this to a grid point are treated as on it [h] (about 4 ms);
@@ -234,6 +236,15 @@ class LightSchedule:
         start = _require_aware(start, "start")
         end = _require_aware(end, "end")
         span = hours_between(start, end)
+        if segments_numba.wanted() and np.all(np.isfinite(values)) and np.all(values >= 0):
+            edges, lux = segments_numba.segments(span, np.asarray(first, dtype=float), np.asarray(last, dtype=float),
+                                                 np.asarray(is_set, dtype=np.bool_),
+                                                 np.asarray(is_scale, dtype=np.bool_),
+                                                 np.asarray(values, dtype=float), float(background_lux),
+                                                 EDGE_TOLERANCE_H)
+            if math.isfinite(background_lux) and background_lux >= 0 and edges.size > 1:
+                return cls._valid(start, edges, lux)   # increasing edges and finite lux >= 0 by construction
+            return cls(start, edges, lux)
         a = np.clip(first, 0.0, span)
         b = np.clip(last, 0.0, span)
         edges = np.unique(np.concatenate(([0.0, span], a, b)))
@@ -263,6 +274,16 @@ class LightSchedule:
         keep = np.concatenate(([True], lux[1:] != lux[:-1]))
         return cls(start, np.append(edges[:-1][keep], span), lux[keep])
 
+    @classmethod
+    def _valid(cls, epoch: datetime, edges_h: np.ndarray, lux: np.ndarray) -> "LightSchedule":
+        """A schedule from arrays known to be valid (float, strictly increasing edges, finite lux
+        >= 0), without checking them again."""
+        schedule = object.__new__(cls)
+        object.__setattr__(schedule, "epoch", epoch)
+        object.__setattr__(schedule, "edges_h", edges_h)
+        object.__setattr__(schedule, "lux", lux)
+        return schedule
+
     def relative_to(self, epoch: datetime) -> np.ndarray:
         """Edges [h] measured from another ``epoch``."""
         return self.edges_h + hours_between(_require_aware(epoch, "epoch"), self.epoch)
@@ -278,7 +299,6 @@ class LightSchedule:
         return [(starts[i], starts[i + 1], float(self.lux[i])) for i in range(self.lux.size)]
 
 
-@dataclass(frozen=True)
 class GridLight:
     """A batch of N schedules on one integration grid.
 
@@ -289,7 +309,9 @@ class GridLight:
     times : ndarray, shape (K + 1,)
         Grid points [h since ``epoch``].
     lux : ndarray, shape (K, N)
-        Lux at the start of each step [lux]; the whole step unless it is split.
+        Lux at the start of each step [lux]; the whole step unless it is split.  When the batch
+        is given as ``levels`` and ``level_index`` it is formed from them on first use (the
+        compiled kernel never needs it).
     split_step, split_column : ndarray, shape (E,)
         The (step, schedule) pairs that a light edge splits.
     split_lengths, split_lux : ndarray, shape (E, P)
@@ -297,34 +319,63 @@ class GridLight:
     levels : ndarray, shape (U,), optional
         The distinct lux values of ``lux`` [lux] (a schedule batch has few).
     level_index : ndarray of int, shape (K, N), optional
-        ``lux == levels[level_index]``; lets per-level work be done once.
+        ``lux == levels[level_index]``; lets per-level work be done once.  It may be laid out
+        column by column in memory (a transposed view), as sampling builds it.
     """
 
-    epoch: datetime
-    times: np.ndarray
-    lux: np.ndarray
-    split_step: np.ndarray
-    split_column: np.ndarray
-    split_lengths: np.ndarray
-    split_lux: np.ndarray
-    levels: np.ndarray | None = None
-    level_index: np.ndarray | None = None
+    __slots__ = ("epoch", "times", "_lux", "split_step", "split_column", "split_lengths", "split_lux",
+                 "levels", "level_index", "_index_by_step")
+
+    def __init__(self, epoch: datetime, times: np.ndarray, lux: np.ndarray | None, split_step: np.ndarray,
+                 split_column: np.ndarray, split_lengths: np.ndarray, split_lux: np.ndarray,
+                 levels: np.ndarray | None = None, level_index: np.ndarray | None = None):
+        if lux is None and (levels is None or level_index is None):
+            raise ValueError("GridLight needs lux, or levels with level_index")
+        self.epoch = epoch
+        self.times = times
+        self._lux = lux
+        self.split_step = split_step
+        self.split_column = split_column
+        self.split_lengths = split_lengths
+        self.split_lux = split_lux
+        self.levels = levels
+        self.level_index = level_index
+        self._index_by_step = None
+
+    @property
+    def lux(self) -> np.ndarray:
+        if self._lux is None:
+            self._lux = np.ascontiguousarray(self.levels[self.level_index])
+        return self._lux
+
+    def level_index_by_step(self) -> np.ndarray:
+        """``level_index`` laid out step by step in memory (C order, shape (K, N)), made once."""
+        if self._index_by_step is None:
+            self._index_by_step = np.ascontiguousarray(self.level_index)
+        return self._index_by_step
 
     @property
     def size(self) -> int:
-        return self.lux.shape[1]
+        shape = self.level_index.shape if self._lux is None else self._lux.shape
+        return shape[1]
+
+    def _repeated_light(self, columns: np.ndarray) -> tuple:
+        """lux, levels and level_index of the batch whose column j is this batch's ``columns[j]``."""
+        if self.level_index is None:
+            return self.lux[:, columns], None, None
+        index = np.ascontiguousarray(self.level_index.T[columns]).T
+        return None, self.levels, index
 
     def repeated(self, count: int) -> "GridLight":
         """The batch of one schedule repeated ``count`` times (e.g. for N people)."""
         if self.size != 1:
             raise ScheduleError(f"only a single schedule can be repeated, not {self.size}")
         e = self.split_step.size
-        index = None if self.level_index is None else np.repeat(self.level_index, count, axis=1)
-        return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
+        lux, levels, index = self._repeated_light(np.zeros(count, dtype=np.int64))
+        return GridLight(self.epoch, self.times, lux,
                          np.tile(self.split_step, count), np.repeat(np.arange(count), e),
                          np.tile(self.split_lengths, (count, 1)), np.tile(self.split_lux, (count, 1)),
-                         self.levels, index)
-
+                         levels, index)
 
     def each_repeated(self, count: int) -> "GridLight":
         """Every schedule of the batch repeated ``count`` times in a row: column j of the result is
@@ -340,11 +391,11 @@ class GridLight:
         # column-major like sample_on_grid: each new column's splits together, in step order
         new_column = (split_column[:, None] * count + copies[None, :]).ravel()
         order = np.lexsort((np.repeat(split_step, count), new_column))
-        index = None if self.level_index is None else np.repeat(self.level_index, count, axis=1)
-        return GridLight(self.epoch, self.times, np.repeat(self.lux, count, axis=1),
+        lux, levels, index = self._repeated_light(np.repeat(np.arange(self.size), count))
+        return GridLight(self.epoch, self.times, lux,
                          np.repeat(split_step, count)[order], new_column[order],
                          np.repeat(self.split_lengths[split_order], count, axis=0)[order],
-                         np.repeat(self.split_lux[split_order], count, axis=0)[order], self.levels, index)
+                         np.repeat(self.split_lux[split_order], count, axis=0)[order], levels, index)
 
 
 def step_grid(span_h: float, step_h: float) -> np.ndarray:
@@ -394,8 +445,8 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     below[last_edge - counts + 1] = 0
     points = np.delete(np.diff(below), last_edge[:-1])
     levels, interval_level = np.unique(all_lux, return_inverse=True)
-    level_index = np.ascontiguousarray(np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T)
-    lux = levels[level_index]
+    # Laid out column by column, as the compiled kernel reads it; a (K, N) view of it for the rest.
+    level_index = np.repeat(interval_level.astype(np.int32), points).reshape(size, lefts.size).T
 
     interior = np.nonzero((all_edges > EDGE_TOLERANCE_H) & (all_edges < span - EDGE_TOLERANCE_H))[0]
     inner, inner_column = all_edges[interior], column_of_edge[interior]
@@ -408,7 +459,7 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     # edge than intervals per schedule).
     opened_lux = all_lux[interior[off_grid] - inner_column]
     if inner.size == 0:
-        return GridLight(start, times, lux, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)),
+        return GridLight(start, times, None, np.zeros(0, int), np.zeros(0, int), np.zeros((0, 1)), np.zeros((0, 1)),
                          levels, level_index)
     group_key = inner_column * lefts.size + step_of_edge
     unique_keys, first, per_group = np.unique(group_key, return_index=True, return_counts=True)
@@ -422,12 +473,12 @@ def sample_on_grid(schedules: Sequence[LightSchedule], start: datetime, end: dat
     bounds[group, rank + 1] = inner
     # Piece 0 has the lux in force at the step's start, piece r + 1 that of the r-th inner edge;
     # unused pieces (length 0) repeat the last used one.
-    split_lux = np.repeat(lux[split_step, split_column][:, None], pieces, axis=1)
+    split_lux = np.repeat(levels[level_index[split_step, split_column]][:, None], pieces, axis=1)
     split_lux[group, rank + 1] = opened_lux
     last_used = np.maximum.accumulate(np.where(np.arange(pieces)[None, :] <= per_group[:, None],
                                                np.arange(pieces)[None, :], 0), axis=1)
     split_lux = np.take_along_axis(split_lux, last_used, axis=1)
-    return GridLight(start, times, lux, split_step, split_column, np.diff(bounds, axis=1), split_lux,
+    return GridLight(start, times, None, split_step, split_column, np.diff(bounds, axis=1), split_lux,
                      levels, level_index)
 
 
@@ -473,6 +524,7 @@ class LightOptions:
     daylight_exposure: str = DEFAULT_EXPOSURE
 
 
+@hash_once
 @dataclass(frozen=True)
 class Window:
     """A prescribed light window (UTC), with what gives the light."""

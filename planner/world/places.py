@@ -9,11 +9,13 @@ from dataclasses import dataclass
 from datetime import date, datetime, time, timedelta, timezone, tzinfo
 from functools import lru_cache
 
+from planner.hashing import hash_once
 from planner.world.sun import daylight_intervals
 
 UTC = timezone.utc
 
 
+@hash_once
 @dataclass(frozen=True)
 class Place:
     """A place the traveller stays at, with the sleep wanted there.
