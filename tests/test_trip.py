@@ -16,6 +16,7 @@ from pathlib import Path
 
 import astral
 import astral.sun
+import numpy as np
 import pytest
 from test_cli import one_json_document
 from typer.testing import CliRunner
@@ -410,3 +411,31 @@ def test_short_trip_end_to_end_in_a_subprocess():
     new_york = [s for d in document["days"] if d["kind"] == "stay" and d["time_zone"] == "America/New_York"
                 for s in d["sleep"]]
     assert new_york and all(s["start"].endswith("T17:00-04:00") for s in new_york)
+
+
+def test_daily_phase_errors_read_the_local_clock_as_zoneinfo_does(model):
+    # Python's datetime and zoneinfo (stdlib, IANA tz database) read the local clock of each CBTmin;
+    # London leaves summer time on 2027-10-31 (IANA tz database), a day the search reads one CBTmin at a time
+    home = Place("Chicago", zone("America/Chicago"), 41.88, -87.63)
+    away = Place("London", zone("Europe/London"), 51.51, -0.13)
+    flight = Flight(home, away, to_utc(resolve_local("2027-10-25 18:00", home.zone)),
+                    to_utc(resolve_local("2027-10-26 08:00", away.zone)))
+    trip = Trip("invented", home, (flight,), 0, 1.0, away.midnight_after(flight.arrive) + timedelta(days=8))
+    evaluator = Evaluator(trip, model)
+    places, day_start, day_end, target = evaluator._day_table("route")
+    rng = np.random.default_rng(11)
+    hours = day_start[:, None] + rng.uniform(0.0, 1.0, (day_start.size, 400)) * (day_end - day_start)[:, None]
+    hours[:, :3] = np.round(hours[:, :3] * 3600.0) / 3600.0   # on whole seconds, where truncation bites
+    hours[1, 5] = np.nan                                       # a day without a CBTmin
+    got = evaluator._clock_errors_h(hours, places, target)
+    for i in range(hours.shape[0]):
+        for j in range(hours.shape[1]):
+            if not np.isfinite(hours[i, j]):
+                assert np.isnan(got[i, j])
+                continue
+            local = (trip.start + timedelta(hours=float(hours[i, j]))).astimezone(places[i].zone)
+            clock = local.hour + local.minute / 60 + local.second / 3600
+            error = (clock - target[i]) % 24.0
+            assert got[i, j] == (error - 24.0 if error > 12.0 else error), (i, j)
+    assert any(day.start.astimezone(away.zone).utcoffset() != day.end.astimezone(away.zone).utcoffset()
+               for day in evaluator.days)   # the clock-change day is among them

@@ -29,7 +29,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field, replace
 from functools import cached_property, lru_cache
-from datetime import datetime, timedelta
+from datetime import datetime, timedelta, timezone
 from typing import Callable, Literal, Sequence
 
 import numpy as np
@@ -129,7 +129,6 @@ class Outcome:
     """A simulated plan: daily CBTmin, re-entrainment and burden."""
 
     plan: Plan
-    days: list[DayOutcome]
     reentrainment_days: int | None   # days after the arrival day; None if not within the trip
     net_shift_h: float               # net movement of the clock over the trip, + later / − earlier [h]
     direction: Literal["advance", "delay", "none"]
@@ -141,6 +140,18 @@ class Outcome:
     #: Every simulated CBTmin of the plan [h since ``epoch``], in order (see :attr:`cbtmins`).
     cbtmin_hours: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False, compare=False)
     epoch: datetime | None = field(default=None, repr=False, compare=False)
+    #: Each day of the trip with the place its phase aims at, and the day's CBTmin [h since
+    #: ``epoch``] and CBTmin − target in (−12, 12] [h] (NaN without a CBTmin); see :attr:`days`.
+    day_places: tuple[tuple[TripDay, Place], ...] = field(default=(), repr=False, compare=False)
+    day_cbtmin_hours: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False, compare=False)
+    day_errors_h: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False, compare=False)
+
+    @cached_property
+    def days(self) -> list[DayOutcome]:
+        """One record per day of the trip (made when first asked for, like :attr:`cbtmins`)."""
+        return [DayOutcome(day, place, self.epoch + timedelta(hours=float(hours)) if math.isfinite(hours) else None,
+                           float(error))
+                for (day, place), hours, error in zip(self.day_places, self.day_cbtmin_hours, self.day_errors_h)]
 
     @cached_property
     def cbtmins(self) -> tuple[datetime, ...]:
@@ -155,6 +166,9 @@ class Outcome:
     @property
     def box_minutes(self) -> float:
         return self.plan.box_minutes
+
+
+_UNIX_EPOCH = datetime(1970, 1, 1, tzinfo=timezone.utc)
 
 
 def target_place(trip: Trip, day: TripDay) -> Place:
@@ -262,28 +276,15 @@ class Evaluator:
         shift and score of all plans at once (:mod:`planner.trips.scoring`: the same numbers)."""
         epoch = self.trip.start
         places, day_start, day_end, target = self._day_table(aim)
-        errors = np.full((len(self.days), len(plans)), np.nan)     # CBTmin − target per day and plan [h]
-        cbtmin_h = np.full_like(errors, np.nan)
-        days_of = []
+        cbtmin_h = np.full((len(self.days), len(plans)), np.nan)   # each day's CBTmin per plan [h since epoch]
         for j, marker_h in enumerate(markers):
             # Each day's CBTmin is the last marker inside it (markers are in time order).
             last = np.searchsorted(marker_h, day_end, side="left") - 1
-            found = ((last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start) if marker_h.size else last >= 0).tolist()
-            last = last.tolist()
-            day_outcomes = []
-            for i, day in enumerate(self.days):
-                if found[i]:
-                    hours = float(marker_h[last[i]])
-                    moment = epoch + timedelta(hours=hours)
-                    local = moment.astimezone(places[i].zone)
-                    clock = local.hour + local.minute / 60 + local.second / 3600
-                    error = (clock - target[i]) % HOURS_PER_DAY    # as phase_difference, in (−12, 12]
-                    error = error - HOURS_PER_DAY if error > HOURS_PER_DAY / 2.0 else error
-                    errors[i, j], cbtmin_h[i, j] = error, hours
-                else:
-                    moment, error = None, math.nan
-                day_outcomes.append(DayOutcome(day, places[i], moment, error))
-            days_of.append(day_outcomes)
+            if marker_h.size:
+                found = (last >= 0) & (marker_h[np.maximum(last, 0)] >= day_start)
+                cbtmin_h[found, j] = marker_h[last[found]]
+        errors = self._clock_errors_h(cbtmin_h, places, target)   # CBTmin − target per day and plan [h]
+        day_places = tuple(zip(self.days, places))
         # Re-entrainment, net shift and direction describe the time away: from the arrival day
         # until the day of the flight back home (the whole rest of a one-way trip).
         arrival, back = self.arrival_index(), self.return_index()
@@ -296,10 +297,47 @@ class Evaluator:
             shift = float(net[j])
             direction = "none" if abs(shift) < 1.0 else ("delay" if shift > 0 else "advance")
             score = float(person[j] + plan_burden_days(self.trip, plan))
-            outcomes.append(Outcome(plan, days_of[j], None if math.isinf(settled[j]) else int(settled[j]), shift,
+            outcomes.append(Outcome(plan, None if math.isinf(settled[j]) else int(settled[j]), shift,
                                     direction, float(amplitude_ratio[j]), score, aim,
-                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, markers[j], epoch))
+                                    float(largest[j]) if math.isfinite(largest[j]) else math.nan, markers[j], epoch,
+                                    day_places, cbtmin_h[:, j], errors[:, j]))
         return outcomes
+
+    def _clock_errors_h(self, cbtmin_h: np.ndarray, places: Sequence[Place], target: Sequence[float]) -> np.ndarray:
+        """CBTmin − target clock in (−12, 12] [h] for CBTmin times of shape (days, plans) [h since the
+        trip's start] (NaN stays NaN), on the clock of each day's place.
+
+        The clock is that of ``(start + timedelta(hours=h)).astimezone(zone)`` to the whole second,
+        computed for all plans at once: the instant to the microsecond as :class:`datetime.timedelta`
+        rounds it, and the zone's offset, which is the same all day unless the day holds a clock
+        change (no zone changes its offset twice within a day); such a day is read one CBTmin at a time.
+        """
+        epoch = self.trip.start
+        epoch_us = (epoch - _UNIX_EPOCH) // timedelta(microseconds=1)
+        errors = np.full(cbtmin_h.shape, np.nan)
+        for i, day in enumerate(self.days):
+            row = cbtmin_h[i]
+            found = np.nonzero(np.isfinite(row))[0]
+            if found.size == 0:
+                continue
+            zone = places[i].zone
+            offset = day.start.astimezone(zone).utcoffset()
+            if day.end.astimezone(zone).utcoffset() == offset:
+                hours = row[found]
+                whole = np.trunc(hours)   # timedelta(hours=h): whole hours exactly, the rest rounded half to even
+                micro = whole.astype(np.int64) * 3_600_000_000 + np.rint((hours - whole) * 3.6e9).astype(np.int64)
+                local_s = (epoch_us + micro) // 1_000_000 + offset // timedelta(seconds=1)
+                of_day = np.mod(local_s, 86_400)
+                clock = (of_day // 3600).astype(float) + ((of_day % 3600) // 60) / 60 + (of_day % 60) / 3600
+            else:
+                clock = []
+                for hours in row[found]:
+                    local = (epoch + timedelta(hours=float(hours))).astimezone(zone)
+                    clock.append(local.hour + local.minute / 60 + local.second / 3600)
+                clock = np.asarray(clock)
+            error = np.mod(np.asarray(clock) - target[i], HOURS_PER_DAY)   # as phase_difference, in (−12, 12]
+            errors[i, found] = np.where(error > HOURS_PER_DAY / 2.0, error - HOURS_PER_DAY, error)
+        return errors
 
 
 def person_score(days: int | None, stay_errors_h: np.ndarray) -> float:
@@ -485,15 +523,18 @@ class TripPlanner:
             self._placed.clear()
             self._states.clear()
             self._state_numbers.clear()
-        state = self._state_number((sleep, (), (), ()))   # sleep, bright, avoid, used minutes per (day, source)
+        state = self._state_number(sleep, (sleep, (), (), ()))   # sleep, bright, avoid, used minutes per (day, source)
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
             key = (state, choice, anchor, strategy)
             following = self._placed.get(key)
             if following is None:
-                following = self._placed[key] = self._state_number(
-                    self._place_day(self._states[state], choice, anchor, strategy))
+                before = self._states[state]
+                after = self._place_day(before, choice, anchor, strategy)
+                # a state is told by the one it grew from and what the day added to it
+                grown = (state, after[1][len(before[1]):], after[2][len(before[2]):], after[3])
+                following = self._placed[key] = self._state_number(grown, after)
             state = following
         placed = self._states[state]
         masks = eye_mask_clear_of(travel.eye_mask, sleep) if travel is not None else ()
@@ -503,11 +544,12 @@ class TripPlanner:
         """The sleep shift of each preparation day [h]."""
         return tuple(choice.sleep_shift_h for day, choice in zip(self.days, choices) if day.kind == "preparation")
 
-    def _state_number(self, placed: tuple) -> int:
-        """The number of a state of placement (see :meth:`build`), given one if it is new."""
-        number = self._state_numbers.get(placed)
+    def _state_number(self, key: tuple, placed: tuple) -> int:
+        """The number of a state of placement ``placed`` known by ``key`` (see :meth:`build`),
+        given one if it is new."""
+        number = self._state_numbers.get(key)
         if number is None:
-            number = self._state_numbers[placed] = len(self._states)
+            number = self._state_numbers[key] = len(self._states)
             self._states.append(placed)
         return number
 
@@ -707,7 +749,7 @@ class TripPlanner:
 
     def _remaining(self, outcome: Outcome, index: int, strategy: Strategy, required: float, arrival: int) -> float:
         """Shift still to do after day ``index`` in the strategy's direction [h], plus final errors."""
-        error = outcome.days[index].error_h
+        error = float(outcome.day_errors_h[index])
         if not math.isfinite(error):
             return 24.0
         todo = (error if strategy == "advance" else -error) % HOURS_PER_DAY
