@@ -10,8 +10,11 @@ from typing import Iterable, Sequence
 def free_segments(start: datetime, end: datetime,
                   taken: Iterable[tuple[datetime, datetime]]) -> list[tuple[datetime, datetime]]:
     """The parts of [start, end] outside every interval of ``taken``, in time order."""
+    cuts = [(a, b) for a, b in taken if b > start and a < end]   # only those that can cut it
+    if not cuts:
+        return [(start, end)] if end > start else []
     segments = [(start, end)]
-    for a, b in [(a, b) for a, b in taken if b > start and a < end]:   # only those that can cut it
+    for a, b in cuts:
         remaining = []
         for s, e in segments:
             if b <= s or a >= e:

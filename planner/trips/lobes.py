@@ -21,6 +21,7 @@ Strategy = Literal["advance", "delay"]
 #: human PRC to bright light, Khalsa et al. 2003, J Physiol 549:945, Fig. 2). A bright-light window
 #: sits in the lobe that moves the clock the planned way, a light-avoidance window in the other.
 LOBE_H = 10.0
+_LOBE = timedelta(hours=LOBE_H)
 #: Shortest prescribed window [min]: shorter ones are dropped, as too short to be worth doing (a
 #: practicality limit of this planner).
 MIN_WINDOW_MINUTES = 15.0
@@ -36,8 +37,7 @@ def lobe(cbtmin: datetime, kind: Literal["bright", "avoid"], strategy: Strategy)
     clock the wrong way (Khalsa et al. 2003, J Physiol 549:945).
     """
     after = (kind == "bright") == (strategy == "advance")
-    reach = timedelta(hours=LOBE_H)
-    return (cbtmin, cbtmin + reach) if after else (cbtmin - reach, cbtmin)
+    return (cbtmin, cbtmin + _LOBE) if after else (cbtmin - _LOBE, cbtmin)
 
 
 def nearest_cbtmin(cbtmins: Sequence[datetime], moment: datetime) -> datetime | None:

@@ -569,8 +569,7 @@ class TripPlanner:
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = self._lattice_after(anchor, choice.bright_offset_h)
             e = s + timedelta(hours=choice.bright_hours)
-            window = self._fit(max(s, lo), min(e, hi), choice.bright_source, forbidden,
-                               [(w.start, w.end) for w in bright])
+            window = self._fit(max(s, lo), min(e, hi), choice.bright_source, forbidden, bright)
             if window is not None:
                 key = (self._day_index(window.start), window.source)
                 room = caps[window.source] - used.get(key, 0.0)
@@ -585,17 +584,17 @@ class TripPlanner:
             lo, hi = max(lo, self.trip.start), min(hi, self.trip.end)
             s = self._lattice_after(anchor, choice.avoid_offset_h)
             e = s + timedelta(hours=choice.avoid_hours)
-            window = self._fit(max(s, lo), min(e, hi), "dark glasses", forbidden,
-                               [(w.start, w.end) for w in bright] + [(w.start, w.end) for w in avoid])
+            window = self._fit(max(s, lo), min(e, hi), "dark glasses", forbidden, bright + avoid)
             if window is not None:
                 avoid.append(window)
         return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
 
-    def _fit(self, start: datetime, end: datetime, source: str, forbidden: SortedSpans, placed: list) -> Window | None:
+    def _fit(self, start: datetime, end: datetime, source: str, forbidden: SortedSpans,
+             placed: list[Window]) -> Window | None:
         """:func:`fit_window` for ``forbidden`` and the windows already ``placed``, remembered: only the
         placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
         differ elsewhere share the answer."""
-        near = tuple([span for span in placed if span[1] > start and span[0] < end])
+        near = tuple([w for w in placed if w.end > start and w.start < end])
         key = (start, end, source, id(forbidden), near)     # forbidden lists live in _forbidden_of
         window = self._fitted.get(key, _UNFITTED)
         if window is not _UNFITTED:
@@ -603,7 +602,7 @@ class TripPlanner:
         if len(self._fitted) > PLACED_CACHE_SIZE:
             self._fitted.clear()
         window = self._fitted[key] = fit_window(self.trip, start, end, source,
-                                                forbidden.overlapping(start, end) + list(near))
+                                                forbidden.overlapping(start, end) + [(w.start, w.end) for w in near])
         return window
 
     def _lattice_after(self, anchor: datetime, offset_h: float) -> datetime:
