@@ -91,3 +91,16 @@ def test_roster_file_example_is_valid(tmp_path):
     assert roster.drafts[0].days == 28
     assert roster.shift("N").kind == "night" and roster.shift("D").kind == "day"
     assert [(c.name, c.offset_days) for c in roster.crews] == [("A", 0), ("B", 3)]   # the example's crews
+
+
+def test_the_speed_section_names_the_switches_and_scripts_that_exist():
+    # the README is the contract (README.md "Speed"): the environment variables it names are the ones
+    # the code reads, and the benchmark scripts it names are in the repository
+    from planner.engine.integrate import KERNEL_ENVIRONMENT, KERNELS
+    from planner.engine.workers import WORKERS_ENVIRONMENT
+
+    speed = section("Speed")
+    assert f"`{KERNEL_ENVIRONMENT}=numpy`" in speed and "numpy" in KERNELS
+    assert f"`{WORKERS_ENVIRONMENT}`" in speed
+    named = set(re.findall(r"`(\w+\.py)`", speed)) - {"integrate.py", "kernel_numba.py"}
+    assert named == {path.name for path in (REPO / "benchmarks").glob("*.py")} - {"kernels.py"}
