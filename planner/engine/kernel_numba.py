@@ -4,7 +4,8 @@ The numpy path in :mod:`planner.engine.integrate` advances all N schedules toget
 time; this kernel turns the loops round: every schedule (column) is integrated over the whole
 grid on its own, and the columns are shared out over the machine's cores with
 ``numba.prange``.  The arithmetic is the same, term for term and in the same order (but for
-hannay2019's cos ψ and sin ψ, computed once per step and turned through the Runge-Kutta stages):
+hannay2019's cos ψ and sin ψ, from a series of this module that the compiler can vectorise,
+where numpy calls its own cos and sin):
 
 - Process L is advanced exactly through each piece of constant light (the closed-form maps of
   :func:`planner.engine.process_l.step_maps`, with the mean drive over the Runge-Kutta sub-windows

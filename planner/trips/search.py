@@ -786,10 +786,12 @@ class TripPlanner:
 
         def decode(vector):
             new = list(choices)
+            values = vector.tolist()
             for k, i in enumerate(active):
-                bo, bh, ao, ah = vector[4 * k:4 * k + 4]
-                new[i] = replace(choices[i], bright_offset_h=float(bo), bright_hours=float(round(bh * 4) / 4),
-                                 avoid_offset_h=float(ao), avoid_hours=float(round(ah * 4) / 4))
+                bo, bh, ao, ah = values[4 * k:4 * k + 4]
+                c = choices[i]
+                new[i] = DayChoice(bo, round(bh * 4) / 4, c.bright_source, ao, round(ah * 4) / 4, c.sleep_shift_h,
+                                   c.travel_sleep)
             return new
 
         def objective(population):
