@@ -507,7 +507,6 @@ class TripPlanner:
         self._placed: dict = {}
         self._states: list = []
         self._state_numbers: dict = {}
-        self._forbidden_of: dict = {}   # sleep -> what windows avoid (_forbidden)
         self._lattice_of: dict = {}     # (anchor, offset) -> window start (_lattice_after)
         self._fitted: dict = {}         # what fit_window gave (_fit)
         self._caps = {"light box": trip.light.box_max_minutes, "daylight": trip.light.daylight_max_minutes}
@@ -523,7 +522,11 @@ class TripPlanner:
             self._placed.clear()
             self._states.clear()
             self._state_numbers.clear()
-        state = self._state_number(sleep, (sleep, (), (), ()))   # sleep, bright, avoid, used minutes per (day, source)
+            self._fitted.clear()   # its keys name the spans of the states by their id
+        # A state: what windows avoid (sleep, flights, busy hours), bright, avoid, used minutes per (day, source).
+        state = self._state_numbers.get(sleep)
+        if state is None:
+            state = self._state_number(sleep, (SortedSpans(_forbidden(self.trip, sleep)), (), (), ()))
         for day, choice, anchor in zip(self.days, choices, anchors):
             if anchor is None or (choice.bright_hours <= 0 and choice.avoid_hours <= 0):
                 continue
@@ -554,12 +557,9 @@ class TripPlanner:
         return number
 
     def _place_day(self, placed: tuple, choice: DayChoice, anchor: datetime, strategy: Strategy) -> tuple:
-        """``placed`` (sleep, bright, avoid, used) with one day's windows added."""
-        sleep, bright, avoid, used_items = placed
+        """``placed`` (forbidden spans, bright, avoid, used) with one day's windows added."""
+        forbidden, bright, avoid, used_items = placed
         bright, avoid, used = list(bright), list(avoid), dict(used_items)
-        forbidden = self._forbidden_of.get(sleep)
-        if forbidden is None:
-            forbidden = self._forbidden_of[sleep] = SortedSpans(_forbidden(self.trip, sleep))
         caps = self._caps
         # A day's windows sit on either side of its CBTmin, so they may fall on the evening
         # before the day (delaying light before a CBTmin just after midnight): each is bounded
@@ -587,7 +587,7 @@ class TripPlanner:
             window = self._fit(max(s, lo), min(e, hi), "dark glasses", forbidden, bright + avoid)
             if window is not None:
                 avoid.append(window)
-        return sleep, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
+        return forbidden, tuple(bright), tuple(avoid), tuple(sorted(used.items()))
 
     def _fit(self, start: datetime, end: datetime, source: str, forbidden: SortedSpans,
              placed: list[Window]) -> Window | None:
@@ -595,7 +595,7 @@ class TripPlanner:
         placed windows overlapping [start, end] can cut it (free_segments needs no order), so plans that
         differ elsewhere share the answer."""
         near = tuple([w for w in placed if w.end > start and w.start < end])
-        key = (start, end, source, id(forbidden), near)     # forbidden lists live in _forbidden_of
+        key = (start, end, source, id(forbidden), near)     # forbidden spans live in the states
         window = self._fitted.get(key, _UNFITTED)
         if window is not _UNFITTED:
             return window
