@@ -11,7 +11,8 @@ from planner.world.light import Window
 
 
 def test_a_kept_hash_is_the_records_own_and_equal_records_hash_equal():
-    # Python data model: objects that compare equal must have the same hash (docs.python.org, object.__hash__)
+    # Python language reference, data model, object.__hash__ (docs.python.org; from memory): objects that
+    # compare equal must have the same hash
     start = datetime(2027, 3, 1, 6, 0, tzinfo=timezone.utc)
     window = Window(start, start + timedelta(hours=1), 10_000.0, "light box")
     twin = Window(start, start + timedelta(hours=1), 10_000.0, "light box")
@@ -21,8 +22,8 @@ def test_a_kept_hash_is_the_records_own_and_equal_records_hash_equal():
 
 
 def test_a_pickled_record_leaves_its_kept_hash_behind():
-    # A string's hash differs between processes (PYTHONHASHSEED, docs.python.org): a hash carried in a
-    # pickle into a worker process would not match the records made there.
+    # Python documentation, PYTHONHASHSEED (docs.python.org; from memory): a string's hash differs between
+    # processes, so a hash carried in a pickle into a worker process would not match the records made there.
     start = datetime(2027, 3, 1, 6, 0, tzinfo=timezone.utc)
     window = Window(start, start + timedelta(hours=1), 10_000.0, "light box")
     hash(window)

@@ -37,7 +37,7 @@ from planner.plans.document import (  # noqa: E402
     PlanEvent,
     clock_text,
 )
-from planner.world.localtime import zone_label
+from planner.world.localtime import clock_hours, zone_label
 
 UTC = timezone.utc
 
@@ -70,10 +70,6 @@ PNG_DPI = 150
 
 # --------------------------------------------------------------------------- chart
 
-def _clock_h(moment: datetime) -> float:
-    return moment.hour + moment.minute / 60.0 + moment.second / 3600.0
-
-
 def _pieces(start: datetime, end: datetime, zone: tzinfo) -> list[tuple[date, float, float]]:
     """A period cut at the local midnights of ``zone``: (local date, start hour, end hour) per piece."""
     pieces = []
@@ -83,7 +79,7 @@ def _pieces(start: datetime, end: datetime, zone: tzinfo) -> list[tuple[date, fl
         midnight = datetime.combine(cursor.date() + timedelta(days=1), time(0), zone)
         stop = min(end, midnight.astimezone(zone))
         hours = (stop.astimezone(UTC) - cursor.astimezone(UTC)).total_seconds() / 3600.0
-        a = _clock_h(cursor)
+        a = clock_hours(cursor)
         pieces.append((cursor.date(), a, min(24.0, a + hours)))
         cursor = stop
     return pieces
@@ -110,7 +106,7 @@ def _marker(moment: datetime | None, zone: tzinfo) -> tuple[date, float] | None:
     if moment is None:
         return None
     at = moment.astimezone(zone)
-    return at.date(), _clock_h(at)
+    return at.date(), clock_hours(at)
 
 
 def _draw_kss(axes, document: PlanDocument, index: dict) -> bool:

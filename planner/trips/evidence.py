@@ -55,6 +55,7 @@ from planner.errors import ComputationError, InputError
 from planner.trips.model import Trip
 from planner.world.light import LightSchedule, hours_between
 from planner.world.lightlog import Finding, LightLog, log_schedule, read_light_log
+from planner.world.localtime import clock_hours
 
 #: Usual uncertainty of a salivary DLMO [min] (this planner's assumption; module docstring).
 DLMO_SD_MIN = 30.0
@@ -290,8 +291,7 @@ def _first_evening_dlmo(trip: Trip, people: ModelSpec, pattern: DailyPattern, st
     out = np.full(states.shape[1], np.nan)
     for j, times in enumerate(dlmo_times(ahead)):
         if times.size:
-            local = (trip.start + timedelta(hours=float(times[0]))).astimezone(trip.home.zone)
-            out[j] = local.hour + local.minute / 60 + local.second / 3600
+            out[j] = clock_hours((trip.start + timedelta(hours=float(times[0]))).astimezone(trip.home.zone))
     return out
 
 

@@ -68,6 +68,7 @@ from planner.trips.search import (
     target_place,
 )
 from planner.world.light import hours_between
+from planner.world.localtime import clock_hours
 from planner.intervals import count_text
 
 #: People in the population that scores candidates in a robust search (a design choice of this
@@ -205,7 +206,7 @@ class TripPopulation:
             value = np.take_along_axis(padded, np.clip(index, 0, None), axis=1)
             found = (index >= 0) & (value >= starts[None, :])
             times.T[found] = value[found]
-        epoch_hour = epoch.hour + epoch.minute / 60 + epoch.second / 3600
+        epoch_hour = clock_hours(epoch)
         errors = np.full_like(clocks, np.nan)
         person = np.arange(columns) % self.size
         for k, day in enumerate(days):
@@ -216,8 +217,7 @@ class TripPopulation:
                 clocks[k] = np.mod(epoch_hour + row + first, HOURS_PER_DAY)
             else:   # a clock change that day: convert each CBTmin exactly
                 for j in np.nonzero(np.isfinite(row))[0]:
-                    local = (epoch + timedelta(hours=float(row[j]))).astimezone(place.zone)
-                    clocks[k, j] = local.hour + local.minute / 60 + local.second / 3600
+                    clocks[k, j] = clock_hours((epoch + timedelta(hours=float(row[j]))).astimezone(place.zone))
             errors[k] = phase_difference(clocks[k], self.targets[place.name][person])
         return times, clocks, errors
 

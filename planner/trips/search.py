@@ -76,6 +76,7 @@ from planner.trips.scoring import REENTRAINMENT_TOLERANCE_H, net_shifts_h, peopl
 from planner.trips.travel_sleep import eye_mask_clear_of, travel_sleep_options
 from planner.world.daylight import mean_daylight_for
 from planner.world.light import Window, hours_between
+from planner.world.localtime import clock_hours
 from planner.world.places import Place
 from planner.intervals import count_text
 
@@ -169,6 +170,7 @@ class Outcome:
 
 
 _UNIX_EPOCH = datetime(1970, 1, 1, tzinfo=timezone.utc)
+_MICROSECONDS_PER_HOUR = 3_600_000_000
 
 
 def target_place(trip: Trip, day: TripDay) -> Place:
@@ -227,8 +229,7 @@ class Evaluator:
         markers = cbtmin_times(result)[0] if result.success else np.zeros(0)
         if markers.size == 0:
             return self.targets_.home_cbtmin_h
-        local = (self.trip.start + timedelta(hours=float(markers[0]))).astimezone(self.trip.home.zone)
-        return local.hour + local.minute / 60 + local.second / 3600
+        return clock_hours((self.trip.start + timedelta(hours=float(markers[0]))).astimezone(self.trip.home.zone))
 
     def arrival_index(self) -> int:
         return next(d.index for d in self.days if d.kind == "travel")
@@ -325,18 +326,15 @@ class Evaluator:
             if day.end.astimezone(zone).utcoffset() == offset:
                 hours = row[found]
                 whole = np.trunc(hours)   # timedelta(hours=h): whole hours exactly, the rest rounded half to even
-                micro = whole.astype(np.int64) * 3_600_000_000 + np.rint((hours - whole) * 3.6e9).astype(np.int64)
+                micro = (whole.astype(np.int64) * _MICROSECONDS_PER_HOUR
+                         + np.rint((hours - whole) * float(_MICROSECONDS_PER_HOUR)).astype(np.int64))
                 local_s = (epoch_us + micro) // 1_000_000 + offset // timedelta(seconds=1)
                 of_day = np.mod(local_s, 86_400)
                 clock = (of_day // 3600).astype(float) + ((of_day % 3600) // 60) / 60 + (of_day % 60) / 3600
             else:
-                clock = []
-                for hours in row[found]:
-                    local = (epoch + timedelta(hours=float(hours))).astimezone(zone)
-                    clock.append(local.hour + local.minute / 60 + local.second / 3600)
-                clock = np.asarray(clock)
-            error = np.mod(np.asarray(clock) - target[i], HOURS_PER_DAY)   # as phase_difference, in (−12, 12]
-            errors[i, found] = np.where(error > HOURS_PER_DAY / 2.0, error - HOURS_PER_DAY, error)
+                clock = np.array([clock_hours((epoch + timedelta(hours=float(hours))).astimezone(zone))
+                                  for hours in row[found]])
+            errors[i, found] = phase_difference(clock, target[i])
         return errors
 
 

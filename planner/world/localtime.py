@@ -380,6 +380,11 @@ def parse_clock(text: str, *, field: str | None = "time", source: str | None = N
     return hours + minutes / 60.0 + seconds / SECONDS_PER_HOUR
 
 
+def clock_hours(moment: datetime) -> float:
+    """The wall-clock time of ``moment`` in its own zone as hours of the day, to the whole second [h]."""
+    return moment.hour + moment.minute / 60 + moment.second / 3600
+
+
 def zone_label(moment: datetime) -> str:
     """Abbreviation and UTC offset of an aware local time, e.g. ``"JST +09:00"``."""
     offset = moment.utcoffset()
